@@ -1,0 +1,1 @@
+//! Analysis: twist-angle series to period, segment equilibria, G and its uncertainty budget.
