@@ -95,7 +95,7 @@ pub enum SetupError {
         table: &'static str,
         key: &'static str,
         #[source]
-        source: QuantityError,
+        source: Box<QuantityError>,
     },
     #[error("{path}: {message}")]
     Impossible { path: PathBuf, message: String },
@@ -154,7 +154,7 @@ impl Reader<'_> {
             path: self.path.to_path_buf(),
             table,
             key,
-            source,
+            source: Box::new(source),
         })?;
         if !has_u {
             self.without_u.push(format!("{table}.{key}"));
