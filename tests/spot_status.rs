@@ -284,3 +284,28 @@ fn tracker_follows_a_moving_spot_and_recovers_after_a_jump() {
     let p = plane_with(480, 240, &[(c, 160.0)], 2.5, |_, _| 30.0, 2);
     assert!(dist(tracker.process(&p).position.unwrap(), c) < 0.1);
 }
+
+#[test]
+fn periodic_full_search_notices_a_second_spot() {
+    let config = SpotConfig {
+        full_search_every: 5,
+        ..SpotConfig::default()
+    };
+    let mut tracker = Tracker::new(config);
+    let (a, b) = (pt(60.2, 70.4), pt(400.7, 180.3));
+    let one = plane_with(480, 240, &[(a, 150.0)], 2.5, |_, _| 30.0, 11);
+    let two = plane_with(480, 240, &[(a, 150.0), (b, 150.0)], 2.5, |_, _| 30.0, 12);
+    assert_eq!(tracker.process(&one).status, SpotStatus::Ok);
+    // Tracking alone looks only near the first spot; within five frames a full search sees both.
+    let statuses: Vec<SpotStatus> = (0..6).map(|_| tracker.process(&two).status).collect();
+    assert!(statuses.contains(&SpotStatus::Ok), "{statuses:?}");
+    assert!(statuses.contains(&SpotStatus::Ambiguous), "{statuses:?}");
+    // Without the periodic search the tracker keeps following the first spot quietly.
+    let mut quiet = Tracker::new(SpotConfig::default());
+    quiet.process(&one);
+    for _ in 0..6 {
+        let fix = quiet.process(&two);
+        assert_eq!(fix.status, SpotStatus::Ok);
+        assert!(dist(fix.position.unwrap(), a) < 0.1);
+    }
+}
