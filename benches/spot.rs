@@ -81,15 +81,23 @@ fn spot_steps<M: criterion::measurement::Measurement + 'static>(
     });
 }
 
-fn bench_spot(c: &mut Criterion) {
-    spot_steps(c, "");
+/// Rendering one full scene frame, under any criterion measurement.
+fn render_step<M: criterion::measurement::Measurement + 'static>(
+    c: &mut Criterion<M>,
+    prefix: &str,
+) {
     let s = scene(30.0);
-    let mut g = c.benchmark_group("synth");
+    let mut g = c.benchmark_group(format!("{prefix}synth"));
     g.sample_size(10);
     g.bench_function("render_scene_1920x1080", |bench| {
         bench.iter(|| black_box(render_scene(black_box(&s), 5).expect("renders")))
     });
     g.finish();
+}
+
+fn bench_spot(c: &mut Criterion) {
+    spot_steps(c, "");
+    render_step(c, "");
 }
 
 #[cfg(unix)]
@@ -162,6 +170,7 @@ mod cpu {
 #[cfg(unix)]
 fn bench_spot_cpu(c: &mut Criterion<cpu::ThreadCpuTime>) {
     spot_steps(c, "cpu/");
+    render_step(c, "cpu/");
 }
 
 #[cfg(unix)]
