@@ -64,7 +64,9 @@ fn stated_uncertainty_of_g_covers_the_truth_as_often_as_one_sigma_should() {
     let frac = covered as f64 / runs as f64;
     let zrms = (z.iter().map(|v| v * v).sum::<f64>() / z.len() as f64).sqrt();
     let mc = mc_ratio.iter().sum::<f64>() / mc_ratio.len() as f64;
-    eprintln!("coverage {frac:.3} over {runs} runs; rms of (G - G_true)/u(G) {zrms:.3}; MC/GUM u {mc:.3}");
+    eprintln!(
+        "coverage {frac:.3} over {runs} runs; rms of (G - G_true)/u(G) {zrms:.3}; MC/GUM u {mc:.3}"
+    );
     assert!((0.60..=0.76).contains(&frac), "coverage {frac}");
     // JCGM 101 validates the first-order result when the two agree; with 2000 draws the Monte Carlo
     // standard deviation itself scatters by about 1.6 %.
