@@ -216,7 +216,7 @@ fn weighted_mean(v: &[Measured]) -> Option<(Measured, Option<f64>)> {
     if v.is_empty() {
         return None;
     }
-    if v.iter().any(|m| !(m.u > 0.0)) {
+    if v.iter().any(|m| m.u.is_nan() || m.u <= 0.0) {
         let mean = v.iter().map(|m| m.value).sum::<f64>() / v.len() as f64;
         return Some((Measured::new(mean, 0.0), None));
     }
@@ -663,8 +663,7 @@ pub fn analyze(
         &bounds,
         opts.accel_window_periods * period0,
         guard,
-        gamma_v,
-        omega_d,
+        (gamma_v, omega_d),
     )
     .and_then(|acc| {
         let inputs = gravity::acceleration_inputs(setup, acc.alpha);
