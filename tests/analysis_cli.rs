@@ -53,6 +53,20 @@ fn spotlever(args: &[&str]) -> std::process::Output {
         .unwrap()
 }
 
+/// `spotlever analyze TRACK --setup SETUP --out DIR`, expected to fail; returns its stderr.
+fn analyze_fails(track: &Path, setup: &Path, out: &Path) -> String {
+    let o = spotlever(&[
+        "analyze",
+        track.to_str().unwrap(),
+        "--setup",
+        setup.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert!(!o.status.success());
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
 #[test]
 fn analyze_writes_all_outputs_and_recovers_g() {
     let dir = tempfile::tempdir().unwrap();
@@ -121,16 +135,7 @@ fn track_without_screen_positions_says_to_calibrate() {
     let setup = dir.path().join("setup.toml");
     write_track(&track, false);
     std::fs::write(&setup, EXACT_SETUP).unwrap();
-    let o = spotlever(&[
-        "analyze",
-        track.to_str().unwrap(),
-        "--setup",
-        setup.to_str().unwrap(),
-        "--out",
-        dir.path().join("o").to_str().unwrap(),
-    ]);
-    let err = String::from_utf8_lossy(&o.stderr);
-    assert!(!o.status.success());
+    let err = analyze_fails(&track, &setup, &dir.path().join("o"));
     assert!(err.contains("x_mm") && err.contains("--calib"), "{err}");
 }
 
@@ -148,16 +153,7 @@ fn setup_with_a_missing_or_mistyped_key_is_refused_by_name() {
     ] {
         let setup = dir.path().join("setup.toml");
         std::fs::write(&setup, bad).unwrap();
-        let o = spotlever(&[
-            "analyze",
-            track.to_str().unwrap(),
-            "--setup",
-            setup.to_str().unwrap(),
-            "--out",
-            dir.path().join("o").to_str().unwrap(),
-        ]);
-        let err = String::from_utf8_lossy(&o.stderr);
-        assert!(!o.status.success());
+        let err = analyze_fails(&track, &setup, &dir.path().join("o"));
         assert!(err.contains(expect) && err.contains("setup.toml"), "{err}");
     }
 }

@@ -204,7 +204,8 @@ pub fn acceleration(
 /// Index of each input in [`deflection_inputs`] / [`acceleration_inputs`] (shared beam and source part).
 const BEAM_INPUTS: usize = 8;
 
-fn beam_inputs(setup: &Setup) -> Vec<Input> {
+/// The beam's and the sources' inputs (the first entries of both models' inputs).
+pub fn beam_inputs(setup: &Setup) -> Vec<Input> {
     let b = &setup.beam;
     let s = &setup.sources;
     vec![
@@ -229,7 +230,8 @@ fn beam_inputs(setup: &Setup) -> Vec<Input> {
     ]
 }
 
-fn inertia_of(x: &[f64]) -> f64 {
+/// Moment of inertia from the first entries of [`beam_inputs`].
+pub fn inertia_of(x: &[f64]) -> f64 {
     physics::beam_inertia(x[3], x[4], x[0], x[1], x[2], x[5])
 }
 
