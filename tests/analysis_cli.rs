@@ -117,6 +117,12 @@ fn analyze_writes_all_outputs_and_recovers_g() {
     // standard uncertainties: a failure here is a real error, not bad luck (6e-5 chance).
     assert!((g - 6.674_30e-11).abs() < 4.0 * u, "G {g} ± {u}");
     assert!(v["relative_difference_from_codata_2018"].as_f64().is_some());
+    // Set SPOTLEVER_KEEP_REPORT=DIR to keep the outputs for a look.
+    if let Ok(keep) = std::env::var("SPOTLEVER_KEEP_REPORT") {
+        for f in ["angle.csv", "segments.csv", "result.json", "report.svg"] {
+            let _ = std::fs::copy(out.join(f), Path::new(&keep).join(f));
+        }
+    }
     let svg = std::fs::read_to_string(out.join("report.svg")).unwrap();
     assert!(
         svg.contains("<text") && svg.contains("theta (mrad)"),
