@@ -209,24 +209,14 @@ pub fn beam_inputs(setup: &Setup) -> Vec<Input> {
     let b = &setup.beam;
     let s = &setup.sources;
     vec![
-        Input::new("small_mass m", b.small_mass.value, b.small_mass.u, "kg"),
-        Input::new(
-            "small_radius r",
-            b.small_radius.value,
-            b.small_radius.u,
-            "m",
-        ),
-        Input::new("arm R", b.arm.value, b.arm.u, "m"),
-        Input::new("rod_mass", b.rod_mass.value, b.rod_mass.u, "kg"),
-        Input::new("rod_length", b.rod_length.value, b.rod_length.u, "m"),
-        Input::new(
-            "extra_inertia",
-            b.extra_inertia.value,
-            b.extra_inertia.u,
-            "kg m^2",
-        ),
-        Input::new("large_mass M", s.large_mass.value, s.large_mass.u, "kg"),
-        Input::new("separation d", s.separation.value, s.separation.u, "m"),
+        Input::measured("small_mass m", b.small_mass, "kg"),
+        Input::measured("small_radius r", b.small_radius, "m"),
+        Input::measured("arm R", b.arm, "m"),
+        Input::measured("rod_mass", b.rod_mass, "kg"),
+        Input::measured("rod_length", b.rod_length, "m"),
+        Input::measured("extra_inertia", b.extra_inertia, "kg m^2"),
+        Input::measured("large_mass M", s.large_mass, "kg"),
+        Input::measured("separation d", s.separation, "m"),
     ]
 }
 
@@ -240,20 +230,10 @@ pub fn inertia_of(x: &[f64]) -> f64 {
 pub fn deflection_inputs(setup: &Setup, half_scale: Measured, period: Measured) -> Vec<Input> {
     let mut v = beam_inputs(setup);
     let l = &setup.lever;
-    v.push(Input::new(
-        "screen_distance L",
-        l.screen_distance.value,
-        l.screen_distance.u,
-        "m",
-    ));
-    v.push(Input::new("zero x0", l.zero.value, l.zero.u, "m"));
-    v.push(Input::new(
-        "half scale difference S",
-        half_scale.value,
-        half_scale.u,
-        "m",
-    ));
-    v.push(Input::new("period T0", period.value, period.u, "s"));
+    v.push(Input::measured("screen_distance L", l.screen_distance, "m"));
+    v.push(Input::measured("zero x0", l.zero, "m"));
+    v.push(Input::measured("half scale difference S", half_scale, "m"));
+    v.push(Input::measured("period T0", period, "s"));
     v
 }
 
@@ -282,16 +262,10 @@ pub fn g_deflection_model(setup: &Setup, x_mid: f64) -> impl Fn(&[f64]) -> f64 {
 pub fn acceleration_inputs(setup: &Setup, alpha: Measured) -> Vec<Input> {
     let mut v = beam_inputs(setup);
     let l = &setup.lever;
-    v.push(Input::new(
-        "screen_distance L",
-        l.screen_distance.value,
-        l.screen_distance.u,
-        "m",
-    ));
-    v.push(Input::new(
+    v.push(Input::measured("screen_distance L", l.screen_distance, "m"));
+    v.push(Input::measured(
         "acceleration jump alpha",
-        alpha.value,
-        alpha.u,
+        alpha,
         "rad s^-2",
     ));
     v

@@ -29,6 +29,10 @@ impl Input {
             unit: unit.to_string(),
         }
     }
+    /// An input from a measured value.
+    pub fn measured(name: &str, m: crate::units::Measured, unit: &str) -> Self {
+        Self::new(name, m.value, m.u, unit)
+    }
 }
 
 /// A row of the uncertainty budget.
