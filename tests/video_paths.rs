@@ -44,24 +44,29 @@ fn png_plane(dir: &Path, i: usize) -> Plane {
 /// A centroid `x = Σ w_i x_i / Σ w_i` with independent pixel errors of standard deviation `s` has
 /// `var(x) = s² Σ (x_i - x)² / (Σ w_i)²` (first-order propagation, JCGM 100:2008 eq. 10).
 fn compare(dir: &Path, frames: &[Frame]) -> (f64, f64) {
+    let pngs: Vec<Plane> = frames
+        .iter()
+        .map(|f| png_plane(dir, f.index as usize))
+        .collect();
+    let a = track_positions(&pngs.iter().collect::<Vec<_>>());
+    let b = track_positions(&frames.iter().map(|f| &f.plane).collect::<Vec<_>>());
     let (mut se, mut sv) = (0.0, 0.0);
-    for f in frames {
-        let png = png_plane(dir, f.index as usize);
-        let (ax, ay) = reference_centroid(&png);
-        let (bx, by) = reference_centroid(&f.plane);
-        se += (ax - bx).powi(2) + (ay - by).powi(2);
-        // Codec pixel error and the window's second moment and weight.
+    for ((png, f), (pa, pb)) in pngs.iter().zip(frames).zip(a.iter().zip(&b)) {
+        se += (pa.0 - pb.0).powi(2) + (pa.1 - pb.1).powi(2);
+        // Codec pixel error variance over the whole frame.
         let d: f64 = png
             .pixels
             .iter()
             .zip(f.plane.pixels.iter())
-            .map(|(&a, &b)| (a as f64 - b as f64).powi(2))
+            .map(|(&x, &y)| (x as f64 - y as f64).powi(2))
             .sum::<f64>()
             / (W * H) as f64;
+        // Second moment and weight of a 3-sigma window of the background-subtracted spot.
+        let (ax, ay) = *pa;
         let (cx, cy) = (ax.round() as i64, ay.round() as i64);
         let (mut m2, mut wsum) = (0.0, 0.0);
-        for y in cy - 7..=cy + 7 {
-            for x in cx - 7..=cx + 7 {
+        for y in cy - 8..=cy + 8 {
+            for x in cx - 8..=cx + 8 {
                 if x < 0 || y < 0 || x >= W as i64 || y >= H as i64 {
                     continue;
                 }

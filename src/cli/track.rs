@@ -3,6 +3,7 @@
 use anyhow::Context;
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
+use spotlever::calib::Calibration;
 use spotlever::export::track_csv::TrackWriter;
 use spotlever::frame::Channel;
 use spotlever::source::drive::run_tracker;
@@ -16,6 +17,9 @@ use std::path::PathBuf;
 pub struct TrackArgs {
     /// A folder of images, a pattern such as 'frames/*.png', or a video file.
     pub input: PathBuf,
+    /// Screen calibration (from 'spotlever calibrate'): adds x_mm,y_mm columns.
+    #[arg(long, value_name = "FILE")]
+    pub calib: Option<PathBuf>,
     /// Times of an image sequence, CSV 'file,t_s' (default: times.csv beside the images).
     #[arg(long, value_name = "FILE", conflicts_with = "fps")]
     pub times: Option<PathBuf>,
@@ -56,7 +60,7 @@ fn parse_roi(s: &str) -> Result<Roi, String> {
 }
 
 fn check_roi(roi: &Roi, info: &SourceInfo) -> anyhow::Result<()> {
-    if roi.x + roi.width > info.width || roi.y + roi.height > info.height {
+    if !roi.fits_in(info.width, info.height) {
         anyhow::bail!(
             "--roi {},{},{},{} reaches x = {}, y = {} but the image is {}x{}; give a rectangle inside the image",
             roi.x,
@@ -100,21 +104,34 @@ pub fn run(args: TrackArgs) -> anyhow::Result<()> {
         check_roi(roi, &info)?;
     }
     eprintln!("reading {}", info.description);
-    // The finder's other settings keep their defaults.
-    #[allow(clippy::needless_update)]
+    let calib = match &args.calib {
+        None => None,
+        Some(p) => {
+            let c = Calibration::load(p)?;
+            c.check_image_size(info.width as u32, info.height as u32)
+                .with_context(|| {
+                    format!("{} cannot be used for {}", p.display(), info.description)
+                })?;
+            Some(c)
+        }
+    };
     let config = SpotConfig {
         roi: args.roi,
         ..SpotConfig::default()
     };
     let mut tracker = Tracker::new(config);
-    let mut writer = TrackWriter::create(&args.out, false)?;
+    let mut writer = TrackWriter::create(&args.out, calib.is_some())?;
     let bar = progress_bar(info.expected_frames);
     let summary = run_tracker::<anyhow::Error>(
         source.as_mut(),
         &mut tracker,
         |row, _| {
+            let mut row = row.clone();
+            if let (Some(c), Some(p)) = (&calib, row.fix.position) {
+                row.screen = Some(c.to_screen(p));
+            }
             writer
-                .write(row)
+                .write(&row)
                 .with_context(|| format!("writing frame {}", row.frame))
         },
         |s| bar.set_position(s.frames),

@@ -3,37 +3,24 @@
 //! wrappers around the `ffmpeg` program.
 #![allow(dead_code)]
 
-use rand::rngs::StdRng;
-use rand::SeedableRng;
-use rand_distr::{Distribution, Normal};
+use spotlever::synth::{render_flat_spot, FlatSpot, Sensor};
+use spotlever::units::PixelPoint;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-/// A Gaussian spot on a flat background, sampled at pixel centres, with additive Gaussian noise and
-/// 8-bit quantisation. Returns row-major gray bytes.
-#[allow(clippy::too_many_arguments)]
-pub fn render_gray(
-    w: usize,
-    h: usize,
-    cx: f64,
-    cy: f64,
-    sigma: f64,
-    peak: f64,
-    bg: f64,
-    noise: f64,
-    seed: u64,
-) -> Vec<u8> {
-    let mut rng = StdRng::seed_from_u64(seed);
-    let n = Normal::new(0.0, noise.max(1e-12)).expect("valid normal");
-    let mut out = Vec::with_capacity(w * h);
-    for y in 0..h {
-        for x in 0..w {
-            let r2 = (x as f64 - cx).powi(2) + (y as f64 - cy).powi(2);
-            let v = bg + peak * (-r2 / (2.0 * sigma * sigma)).exp() + n.sample(&mut rng);
-            out.push(v.round().clamp(0.0, 255.0) as u8);
-        }
-    }
-    out
+/// A synthesizer frame: Gaussian spot sigma 2.5 px, peak 180 DN over 40 DN, noise 2 DN, 8-bit.
+pub fn render_gray(w: usize, h: usize, cx: f64, cy: f64, seed: u64) -> Vec<u8> {
+    let spot = FlatSpot {
+        width: w,
+        height: h,
+        centre: PixelPoint { x: cx, y: cy },
+        peak_dn: 180.0,
+        background_dn: 40.0,
+        sigma_px: 2.5,
+        sensor: Sensor::default(),
+    };
+    let plane = render_flat_spot(&spot, seed).expect("valid test spot");
+    plane.pixels.iter().map(|&v| v.min(255) as u8).collect()
 }
 
 /// Spot centre of test frame `i` of a slow Lissajous path inside a `w`x`h` image.
@@ -52,7 +39,7 @@ pub fn write_png_frames(dir: &Path, n: usize, w: usize, h: usize) -> Vec<(f64, f
     (0..n)
         .map(|i| {
             let (cx, cy) = path_centre(i, w, h);
-            let px = render_gray(w, h, cx, cy, 2.5, 180.0, 40.0, 2.0, 1000 + i as u64);
+            let px = render_gray(w, h, cx, cy, 1000 + i as u64);
             image::GrayImage::from_raw(w as u32, h as u32, px)
                 .expect("size")
                 .save(dir.join(format!("img{i}.png")))
@@ -114,32 +101,17 @@ pub fn encode_pngs(dir: &Path, fps: u32, extra: &[&str], out: &Path) {
     ffmpeg(&args);
 }
 
-/// Background-subtracted centroid in a 15x15 window around the brightest pixel: a test-side
-/// reference measurement, used only to compare two readings of the same frames.
-pub fn reference_centroid(plane: &spotlever::frame::Plane) -> (f64, f64) {
-    let p = &plane.pixels;
-    let (mut by, mut bx, mut best) = (0, 0, 0u16);
-    for ((y, x), &v) in p.indexed_iter() {
-        if v > best {
-            best = v;
-            by = y;
-            bx = x;
-        }
-    }
-    let mut sorted: Vec<u16> = p.iter().copied().collect();
-    sorted.sort_unstable();
-    let bg = sorted[sorted.len() / 2] as f64;
-    let (mut sw, mut sx, mut sy) = (0.0, 0.0, 0.0);
-    let r = 7i64;
-    for y in (by as i64 - r).max(0)..=(by as i64 + r).min(p.nrows() as i64 - 1) {
-        for x in (bx as i64 - r).max(0)..=(bx as i64 + r).min(p.ncols() as i64 - 1) {
-            let v = (p[(y as usize, x as usize)] as f64 - bg).max(0.0);
-            sw += v;
-            sx += v * x as f64;
-            sy += v * y as f64;
-        }
-    }
-    (sx / sw, sy / sw)
+/// The spot position the project's tracker reports for each plane, in order (fresh tracker per run).
+pub fn track_positions(planes: &[&spotlever::frame::Plane]) -> Vec<(f64, f64)> {
+    let mut t = spotlever::spot::Tracker::new(spotlever::spot::SpotConfig::default());
+    planes
+        .iter()
+        .map(|p| {
+            let fix = t.process(p);
+            let pos = fix.position.expect("test spot is always visible");
+            (pos.x, pos.y)
+        })
+        .collect()
 }
 
 pub fn committed_clip() -> PathBuf {
