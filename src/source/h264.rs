@@ -96,15 +96,7 @@ fn complete_boxes_end(file: &mut BufReader<File>, len: u64) -> u64 {
 impl BuiltinH264Source {
     pub fn open(path: &Path, opts: &OpenOptions) -> Result<Self, SourceError> {
         let shown = path.display().to_string();
-        let file = File::open(path).map_err(|source| match source.kind() {
-            std::io::ErrorKind::NotFound => SourceError::Missing {
-                path: shown.clone(),
-            },
-            _ => SourceError::Io {
-                path: shown.clone(),
-                source,
-            },
-        })?;
+        let file = File::open(path).map_err(|e| SourceError::from_io(path, e))?;
         let size = file
             .metadata()
             .map_err(|source| SourceError::Io {
