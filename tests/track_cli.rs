@@ -243,3 +243,68 @@ fn not_a_video_is_refused_with_the_reason() {
         );
     }
 }
+
+fn scale_calibration(path: &Path, width: u32, height: u32) {
+    use nalgebra::Matrix3;
+    // x_mm = 0.5 x_px - 10, y_mm = 0.5 y_px + 3: an affine homography.
+    let h = Matrix3::new(0.5, 0.0, -10.0, 0.0, 0.5, 3.0, 0.0, 0.0, 1.0);
+    let c = spotlever::calib::Calibration {
+        image_width: width,
+        image_height: height,
+        h,
+        h_inv: h.try_inverse().expect("invertible"),
+        rms_px: 0.0,
+        rms_mm: 0.0,
+        points: 4,
+        source_image: "grid.png".into(),
+        created: "2026-01-01T00:00:00Z".into(),
+        notes: String::new(),
+    };
+    c.save(path).expect("save calibration");
+}
+
+#[test]
+fn calibration_adds_screen_millimetres_and_must_match_the_image_size() {
+    let d = tempfile::tempdir().unwrap();
+    let f = d.path().join("f");
+    write_png_frames(&f, 4, 64, 48);
+    let good = d.path().join("good.toml");
+    scale_calibration(&good, 64, 48);
+    let out = d.path().join("t.csv");
+    let o = track(
+        &[
+            &s(&f),
+            "--fps",
+            "1",
+            "--calib",
+            &s(&good),
+            "--out",
+            &s(&out),
+        ],
+        None,
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let t = read_track(&out).unwrap();
+    assert!(t.has_mm);
+    for r in &t.rows {
+        let (p, m) = (r.fix.position.unwrap(), r.screen.unwrap());
+        // The file keeps 4 decimals of px and 5 of mm.
+        assert!((m.x_mm - (0.5 * p.x - 10.0)).abs() < 1e-4, "{p:?} {m:?}");
+        assert!((m.y_mm - (0.5 * p.y + 3.0)).abs() < 1e-4, "{p:?} {m:?}");
+    }
+    let other = d.path().join("other.toml");
+    scale_calibration(&other, 1920, 1080);
+    let o = track(
+        &[
+            &s(&f),
+            "--fps",
+            "1",
+            "--calib",
+            &s(&other),
+            "--out",
+            &s(&out),
+        ],
+        None,
+    );
+    fails_with(&o, &["other.toml", "1920"]);
+}
