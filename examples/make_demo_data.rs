@@ -11,15 +11,14 @@
 //! on a flat screen (the optical lever) -> screen millimetres -> image pixels (a fixed homography with a
 //! perspective tilt) -> rendered frame with sensor noise and JPEG compression.
 
-use nalgebra::{Matrix3, SMatrix, SVector, Vector3};
-use rand::rngs::StdRng;
-use rand::SeedableRng;
-use rand_distr::{Distribution, Normal};
 use spotlever::lever::Lever;
 use spotlever::physics;
-use spotlever::setup::{ScaleShape, Setup};
-use spotlever::units::Radians;
-use std::f64::consts::PI;
+use spotlever::setup::Setup;
+use spotlever::synth::motion::{MassMove, MassPosition, MotionConfig, Trajectory};
+use spotlever::synth::{
+    render_scene, CameraView, Illumination, LaserSpot, RuledScreen, Scene, Sensor, Speckle,
+};
+use spotlever::units::{PixelPoint, Radians, ScreenPoint};
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
@@ -70,16 +69,14 @@ const RUN_END_S: f64 = 4000.0;
 const SPOT_Y_MM: f64 = 8.0;
 
 /// Image size and rendering.
-const WIDTH: u32 = 320;
-const HEIGHT: u32 = 240;
+const WIDTH: usize = 320;
+const HEIGHT: usize = 240;
 const GRID_PITCH_MM: f64 = 10.0;
 const LINE_WIDTH_MM: f64 = 0.8;
-/// The x = 0 and y = 0 lines are drawn thicker so the grid's origin can be found.
+/// Every tenth line (within view: only x = 0 and y = 0) is drawn thicker so the origin can be found.
 const AXIS_LINE_WIDTH_MM: f64 = 2.0;
-const PAPER_DN: f64 = 120.0;
-const INK_DN: f64 = 45.0;
-/// The laser multiplies the local brightness by up to 1 + this (dim room light, bright spot).
-const SPOT_GAIN: f64 = 1.0;
+const PAPER_DN: f64 = 110.0;
+const SPOT_PEAK_DN: f64 = 135.0;
 const SPOT_SIGMA_PX: f64 = 2.6;
 const NOISE_DN: f64 = 1.0;
 const JPEG_QUALITY: u8 = 70;
@@ -94,50 +91,85 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     std::fs::write(out.join("setup.toml"), SETUP_TOML)?;
     let setup = Setup::parse(SETUP_TOML, &out.join("setup.toml"))?;
 
-    let b = &setup.beam;
-    let s = &setup.sources;
-    let inertia = physics::beam_inertia(
-        b.rod_mass.value,
-        b.rod_length.value,
-        b.small_mass.value,
-        b.small_radius.value,
-        b.arm.value,
-        b.extra_inertia.value,
-    );
-    let omega0 = 2.0 * PI / PERIOD_S;
-    let kappa = physics::torsion_constant(inertia, omega0);
-    let torque = physics::gravitational_torque(
-        physics::G_CODATA_2018,
-        b.small_mass.value,
-        s.large_mass.value,
-        b.arm.value,
-        s.separation.value,
-    );
-    let theta_g = torque / kappa;
-    let gamma = 1.0 / DAMPING_TIME_S;
-    let omega_d = (omega0 * omega0 - gamma * gamma).sqrt();
-    let motion = Motion::new(theta_g, omega_d, gamma);
+    let mut positions = [MassPosition::B, MassPosition::A].iter().cycle();
+    let config = MotionConfig {
+        initial_position: MassPosition::A,
+        moves: MOVES_S
+            .iter()
+            .map(|&t| MassMove {
+                t,
+                to: *positions.next().unwrap_or(&MassPosition::A),
+            })
+            .collect(),
+        drift: DRIFT_RAD_PER_S,
+        initial_offset: START_SWING_RAD,
+        ..MotionConfig::from_setup(&setup, physics::G_CODATA_2018, PERIOD_S, DAMPING_TIME_S)
+    };
+    let motion = Trajectory::new(&config)?;
     let lever = Lever {
         distance_m: setup.lever.screen_distance.value,
         zero_m: setup.lever.zero.value,
-        shape: ScaleShape::Flat,
+        shape: setup.lever.scale,
     };
-    let camera = Camera::new()?;
     println!(
-        "inertia {inertia:.4e} kg m^2, kappa {kappa:.4e} N m/rad, torque {torque:.4e} N m, theta_G {theta_g:.4e} rad"
+        "inertia {:.4e} kg m^2, kappa {:.4e} N m/rad, torque {:.4e} N m, theta_G {:.4e} rad",
+        config.inertia, config.kappa, config.torque, motion.truth.theta_g
     );
 
     let mut events = std::fs::File::create(out.join("events.csv"))?;
     writeln!(events, "t_s,label")?;
-    for (i, t) in MOVES_S.iter().enumerate() {
-        let label = if i % 2 == 0 { "to_b" } else { "to_a" };
-        writeln!(events, "{t},{label}")?;
+    for m in &config.moves {
+        let label = match m.to {
+            MassPosition::A => "to_a",
+            MassPosition::B => "to_b",
+            MassPosition::Away => "away",
+        };
+        writeln!(events, "{},{label}", m.t)?;
     }
 
-    let screen = render_screen(&camera);
-    let mut rng = StdRng::seed_from_u64(SEED);
-    let noise = Normal::new(0.0, NOISE_DN)?;
-    to_gray(&screen, None, &mut rng, &noise).save(out.join("screen.png"))?;
+    // The camera: about 2.4 px/mm at the centre, seen from below and to the left, slightly rolled.
+    let view = CameraView {
+        look_at: ScreenPoint {
+            x_mm: 0.0,
+            y_mm: 0.0,
+        },
+        image_centre: PixelPoint {
+            x: (WIDTH as f64 - 1.0) / 2.0,
+            y: (HEIGHT as f64 - 1.0) / 2.0,
+        },
+        px_per_mm: 2.4,
+        focal_px: 1.1 * WIDTH as f64,
+        tilt_x_deg: 12.0,
+        tilt_y_deg: -15.0,
+        roll_deg: 1.5,
+    };
+    let mut scene = Scene {
+        width: WIDTH,
+        height: HEIGHT,
+        screen_to_image: view.homography()?,
+        screen: RuledScreen {
+            pitch_mm: GRID_PITCH_MM,
+            line_width_mm: LINE_WIDTH_MM,
+            major_every: 10,
+            major_width_mm: AXIS_LINE_WIDTH_MM,
+            origin: ScreenPoint::default(),
+            extent_mm: (-150.0, -100.0, 150.0, 100.0),
+            ink_reflectance: 0.35,
+            surround_reflectance: 0.1,
+        },
+        illumination: Illumination {
+            paper_dn: PAPER_DN,
+            ..Illumination::default()
+        },
+        spot: None,
+        sensor: Sensor {
+            noise_dn: NOISE_DN,
+            blur_sigma_px: 0.5,
+            white: 255,
+        },
+    };
+    let (plane, _) = render_scene(&scene, SEED)?;
+    to_gray(&plane).save(out.join("screen.png"))?;
 
     let mut times = std::fs::File::create(out.join("times.csv"))?;
     writeln!(times, "file,t_s")?;
@@ -146,169 +178,42 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     let n = (RUN_END_S / FRAME_INTERVAL_S).round() as usize;
     for i in 0..n {
         let t = i as f64 * FRAME_INTERVAL_S;
-        let theta = motion.theta(t) + DRIFT_RAD_PER_S * t;
+        let theta = motion.angle(t);
         let x_mm = lever.reading(Radians(theta)) * 1e3;
-        let (px, py) = camera.to_image(x_mm, SPOT_Y_MM);
+        scene.spot = Some(LaserSpot {
+            centre: ScreenPoint {
+                x_mm,
+                y_mm: SPOT_Y_MM,
+            },
+            peak_dn: SPOT_PEAK_DN,
+            sigma_px: SPOT_SIGMA_PX,
+            speckle: Some(Speckle {
+                contrast: 0.1,
+                grain_px: 3.0,
+                seed: SEED + 1,
+            }),
+        });
+        let (plane, drawn) = render_scene(&scene, SEED + 2 + i as u64)?;
+        let px = drawn
+            .spot_px
+            .ok_or("the spot fell outside the camera's view")?;
         let name = format!("frame_{i:05}.jpg");
-        let img = to_gray(&screen, Some((px, py)), &mut rng, &noise);
         let file = std::fs::File::create(out.join("frames").join(&name))?;
         let mut enc = image::codecs::jpeg::JpegEncoder::new_with_quality(
             std::io::BufWriter::new(file),
             JPEG_QUALITY,
         );
-        enc.encode_image(&img)?;
+        enc.encode_image(&to_gray(&plane))?;
         writeln!(times, "frames/{name},{t}")?;
-        writeln!(truth, "{t},{theta:.9e},{x_mm:.6},{px:.4},{py:.4}")?;
+        writeln!(truth, "{t},{theta:.9e},{x_mm:.6},{:.4},{:.4}", px.x, px.y)?;
     }
     println!("wrote {n} frames to {}", out.display());
     Ok(())
 }
 
-/// The balance's twist: a damped oscillator whose rest angle jumps between -theta_G and +theta_G at each
-/// mass move, solved exactly segment by segment.
-struct Motion {
-    /// (start time, rest angle, theta at start, angular velocity at start)
-    segments: Vec<(f64, f64, f64, f64)>,
-    omega_d: f64,
-    gamma: f64,
-}
-
-impl Motion {
-    fn new(theta_g: f64, omega_d: f64, gamma: f64) -> Self {
-        let mut m = Motion {
-            segments: Vec::new(),
-            omega_d,
-            gamma,
-        };
-        let mut rest = -theta_g;
-        m.segments.push((0.0, rest, rest + START_SWING_RAD, 0.0));
-        for &t in &MOVES_S {
-            let (th, om) = m.state(t);
-            rest = -rest;
-            m.segments.push((t, rest, th, om));
-        }
-        m
-    }
-    /// Angle and angular velocity at `t`.
-    fn state(&self, t: f64) -> (f64, f64) {
-        let &(t0, rest, th0, om0) = self
-            .segments
-            .iter()
-            .rev()
-            .find(|s| s.0 <= t)
-            .unwrap_or(&self.segments[0]);
-        let a = th0 - rest;
-        let b = (om0 + self.gamma * a) / self.omega_d;
-        let dt = t - t0;
-        let e = (-self.gamma * dt).exp();
-        let (sn, cs) = (self.omega_d * dt).sin_cos();
-        let th = rest + e * (a * cs + b * sn);
-        let om = e
-            * ((-self.gamma * a + self.omega_d * b) * cs
-                + (-self.gamma * b - self.omega_d * a) * sn);
-        (th, om)
-    }
-    fn theta(&self, t: f64) -> f64 {
-        self.state(t).0
-    }
-}
-
-/// The invented camera: a homography from screen millimetres (x along the scale, y up) to image pixels,
-/// fixed by where four screen corners land (a view from slightly left of and below the screen's normal).
-struct Camera {
-    h: Matrix3<f64>,
-    h_inv: Matrix3<f64>,
-}
-
-impl Camera {
-    fn new() -> Result<Self, String> {
-        let pairs = [
-            ((-60.0, 45.0), (14.0, 16.0)),
-            ((60.0, 45.0), (304.0, 6.0)),
-            ((60.0, -45.0), (298.0, 233.0)),
-            ((-60.0, -45.0), (20.0, 222.0)),
-        ];
-        let mut a = SMatrix::<f64, 8, 8>::zeros();
-        let mut rhs = SVector::<f64, 8>::zeros();
-        for (k, ((x, y), (u, v))) in pairs.iter().enumerate() {
-            let r = 2 * k;
-            a.row_mut(r)
-                .copy_from_slice(&[*x, *y, 1.0, 0.0, 0.0, 0.0, -u * x, -u * y]);
-            a.row_mut(r + 1)
-                .copy_from_slice(&[0.0, 0.0, 0.0, *x, *y, 1.0, -v * x, -v * y]);
-            rhs[r] = *u;
-            rhs[r + 1] = *v;
-        }
-        let p = a
-            .lu()
-            .solve(&rhs)
-            .ok_or("camera corners are not in general position")?;
-        let h = Matrix3::new(p[0], p[1], p[2], p[3], p[4], p[5], p[6], p[7], 1.0);
-        let h_inv = h.try_inverse().ok_or("camera homography is singular")?;
-        Ok(Camera { h, h_inv })
-    }
-    fn to_image(&self, x_mm: f64, y_mm: f64) -> (f64, f64) {
-        let v = self.h * Vector3::new(x_mm, y_mm, 1.0);
-        (v.x / v.z, v.y / v.z)
-    }
-    fn to_screen(&self, u: f64, v: f64) -> (f64, f64) {
-        let w = self.h_inv * Vector3::new(u, v, 1.0);
-        (w.x / w.z, w.y / w.z)
-    }
-}
-
-/// Noise-free screen brightness per pixel (4 x 4 supersampled ruled grid, mild vignetting).
-fn render_screen(camera: &Camera) -> Vec<f64> {
-    let mut out = vec![0.0; (WIDTH * HEIGHT) as usize];
-    const SS: usize = 4;
-    for j in 0..HEIGHT as usize {
-        for i in 0..WIDTH as usize {
-            let mut ink = 0.0;
-            for sj in 0..SS {
-                for si in 0..SS {
-                    let u = i as f64 - 0.5 + (si as f64 + 0.5) / SS as f64;
-                    let v = j as f64 - 0.5 + (sj as f64 + 0.5) / SS as f64;
-                    let (x, y) = camera.to_screen(u, v);
-                    if on_line(x) || on_line(y) {
-                        ink += 1.0;
-                    }
-                }
-            }
-            let ink = ink / (SS * SS) as f64;
-            let du = (i as f64 - WIDTH as f64 / 2.0) / WIDTH as f64;
-            let dv = (j as f64 - HEIGHT as f64 / 2.0) / HEIGHT as f64;
-            let light = 1.0 - 0.35 * (du * du + dv * dv);
-            out[j * WIDTH as usize + i] = (PAPER_DN * (1.0 - ink) + INK_DN * ink) * light;
-        }
-    }
-    out
-}
-
-/// Whether a screen coordinate (mm) falls on a ruled line.
-fn on_line(c: f64) -> bool {
-    let width = if c.abs() < AXIS_LINE_WIDTH_MM {
-        AXIS_LINE_WIDTH_MM
-    } else {
-        LINE_WIDTH_MM
-    };
-    let k = (c / GRID_PITCH_MM).round();
-    (c - k * GRID_PITCH_MM).abs() < 0.5 * width
-}
-
-/// Add the spot (a Gaussian, clipped at full scale) and sensor noise, quantise to 8 bits.
-fn to_gray(
-    screen: &[f64],
-    spot: Option<(f64, f64)>,
-    rng: &mut StdRng,
-    noise: &Normal<f64>,
-) -> image::GrayImage {
-    image::GrayImage::from_fn(WIDTH, HEIGHT, |i, j| {
-        let mut v = screen[(j * WIDTH + i) as usize];
-        if let Some((px, py)) = spot {
-            let r2 = (i as f64 - px).powi(2) + (j as f64 - py).powi(2);
-            v *= 1.0 + SPOT_GAIN * (-r2 / (2.0 * SPOT_SIGMA_PX * SPOT_SIGMA_PX)).exp();
-        }
-        v += noise.sample(rng);
-        image::Luma([v.round().clamp(0.0, 255.0) as u8])
+/// An 8-bit grayscale image of a rendered plane.
+fn to_gray(plane: &spotlever::frame::Plane) -> image::GrayImage {
+    image::GrayImage::from_fn(plane.width() as u32, plane.height() as u32, |x, y| {
+        image::Luma([plane.pixels[(y as usize, x as usize)].min(255) as u8])
     })
 }
