@@ -3,7 +3,7 @@
 //!
 //! `cargo run --release --example make_demo_data [-- OUT_DIR]` writes (deterministically, fixed seed):
 //! `setup.toml` (the apparatus), `events.csv` (true mass-move times), `frames/frame_NNNNN.jpg` (grayscale
-//! time-lapse), `times.csv` (`file,t_s`), `truth.csv` (`t_s,theta_rad,x_mm,x_px,y_px`) and `screen.png`
+//! time-lapse) with `frames/times.csv` (`file,t_s`), `truth.csv` (`t_s,theta_rad,x_mm,x_px,y_px`) and `screen.png`
 //! (the lit, ruled screen without the spot, for calibration).
 //!
 //! The chain is: twist angle theta(t) (damped torsion pendulum driven by the gravitational torque, the
@@ -171,7 +171,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     let (plane, _) = render_scene(&scene, SEED)?;
     to_gray(&plane).save(out.join("screen.png"))?;
 
-    let mut times = std::fs::File::create(out.join("times.csv"))?;
+    let mut times = std::fs::File::create(out.join("frames").join("times.csv"))?;
     writeln!(times, "file,t_s")?;
     let mut truth = std::fs::File::create(out.join("truth.csv"))?;
     writeln!(truth, "t_s,theta_rad,x_mm,x_px,y_px")?;
@@ -204,7 +204,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             JPEG_QUALITY,
         );
         enc.encode_image(&to_gray(&plane))?;
-        writeln!(times, "frames/{name},{t}")?;
+        writeln!(times, "{name},{t}")?;
         writeln!(truth, "{t},{theta:.9e},{x_mm:.6},{:.4},{:.4}", px.x, px.y)?;
     }
     println!("wrote {n} frames to {}", out.display());
