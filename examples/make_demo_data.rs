@@ -117,11 +117,13 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     );
 
     let mut events = std::fs::File::create(out.join("events.csv"))?;
+    // One row per segment start: the run opens with the masses at A, then each move.
     writeln!(events, "t_s,label")?;
+    writeln!(events, "0,A")?;
     for m in &config.moves {
         let label = match m.to {
-            MassPosition::A => "to_a",
-            MassPosition::B => "to_b",
+            MassPosition::A => "A",
+            MassPosition::B => "B",
             MassPosition::Away => "away",
         };
         writeln!(events, "{},{label}", m.t)?;
