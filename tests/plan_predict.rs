@@ -175,3 +175,37 @@ fn ribbon_torsion_constant() {
     let p = plan(&text, &PlanOptions::default());
     assert!(close(p.kappa_n_m_per_rad.value, 1.33333e-8, 1e-5));
 }
+
+#[test]
+fn travel_in_pixels_and_noise_through_a_calibration() {
+    // A square-on camera at 3 px/mm (pixel = 3 * mm + 160): the travel in pixels is 3 x the travel in
+    // mm, and 0.3 px of tracker noise is 0.1 mm.
+    use nalgebra::Matrix3;
+    let h_inv = Matrix3::new(3.0, 0.0, 160.0, 0.0, 3.0, 120.0, 0.0, 0.0, 1.0);
+    let cal = spotlever::calib::Calibration {
+        image_width: 320,
+        image_height: 240,
+        h: h_inv.try_inverse().unwrap(),
+        h_inv,
+        rms_px: 0.0,
+        rms_mm: 0.0,
+        points: 4,
+        source_image: "test".into(),
+        created: String::new(),
+        notes: String::new(),
+    };
+    let p = plan(
+        DESIGN,
+        &PlanOptions {
+            noise: Some(TrackerNoise::Pixels(0.3)),
+            calibration: Some(cal),
+            ..PlanOptions::default()
+        },
+    );
+    assert!(close(
+        p.spot_travel_px.unwrap(),
+        3.0 * p.spot_travel_mm.value,
+        1e-9
+    ));
+    assert!(close(p.tracker_noise_mm, 0.1, 1e-9));
+}

@@ -25,8 +25,11 @@ pub struct PlanArgs {
     #[arg(long, value_name = "MM", conflicts_with = "noise_px")]
     pub noise_mm: Option<f64>,
     /// Tracker noise in the image, px (needs --calibration).
-    #[arg(long, value_name = "PX")]
+    #[arg(long, value_name = "PX", requires = "calibration")]
     pub noise_px: Option<f64>,
+    /// Camera calibration file: also give the spot travel in camera pixels.
+    #[arg(long, value_name = "FILE")]
+    pub calibration: Option<PathBuf>,
 }
 
 pub fn run(args: PlanArgs) -> anyhow::Result<()> {
@@ -43,7 +46,11 @@ pub fn run(args: PlanArgs) -> anyhow::Result<()> {
             (None, Some(p)) => Some(TrackerNoise::Pixels(p)),
             (None, None) => None,
         },
-        calibration: None,
+        calibration: args
+            .calibration
+            .as_deref()
+            .map(spotlever::calib::Calibration::load)
+            .transpose()?,
     };
     let p = predict(&setup, &fibre, &options)?;
     if args.json {
@@ -134,7 +141,11 @@ pub fn report(setup: &Setup, f: &Fibre, p: &Prediction) -> String {
     if let Some(px) = p.spot_travel_px {
         let _ = writeln!(s, "  spot travel in camera  {px:>28.1} px");
     }
-    let _ = writeln!(s, "  tracker noise          {:>28} mm", p.tracker_noise_mm);
+    let _ = writeln!(
+        s,
+        "  tracker noise          {:>28.4} mm",
+        p.tracker_noise_mm
+    );
     match (p.damping_time_s, p.quality_factor) {
         (Some(t), Some(q)) => {
             let _ = writeln!(
