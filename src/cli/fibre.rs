@@ -1,7 +1,9 @@
 //! `spotlever fibre`: torsion constant and shear modulus of trial fibres from the period of a test body.
 
 use clap::Args;
-use spotlever::plan::trial::{evaluate, read_trials, write_csv, PeriodSource, TrialResult};
+use spotlever::plan::trial::{
+    evaluate, period_from_track, read_trials, write_csv, PeriodSource, TrialResult,
+};
 use std::path::PathBuf;
 
 #[derive(Debug, Args)]
@@ -20,12 +22,17 @@ pub fn run(args: FibreArgs) -> anyhow::Result<()> {
     for t in &inputs {
         let period = match &t.period {
             PeriodSource::Given(p) => *p,
-            PeriodSource::Track(path) => anyhow::bail!(
-                "{}: {}: fitting the period from a track ({}) is not available in this build; give period = \"T ± u s\" instead",
-                args.trials.display(),
-                t.name,
-                path.display()
-            ),
+            PeriodSource::Track(path) => {
+                let p = period_from_track(path)?;
+                println!(
+                    "{}: period fitted from {}: {:.3} ± {:.3} s",
+                    t.name,
+                    path.display(),
+                    p.value,
+                    p.u
+                );
+                p
+            }
         };
         results.push(evaluate(t, period)?);
     }

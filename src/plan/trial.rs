@@ -217,3 +217,63 @@ pub fn write_csv(path: &Path, results: &[TrialResult]) -> Result<(), PlanError> 
     }
     w.flush().map_err(|e| io(&e))
 }
+
+/// The natural period of a free swing recorded in a track CSV: the spot's position along the scale
+/// (`x_mm` when the track has screen positions, otherwise the image's `x_px`; the period does not
+/// depend on the scale) goes through the analyzer's spectrum for a starting frequency and its damped
+/// sinusoid fit, `T_0 = 2 pi / omega_0`. A linear drift is fitted alongside.
+pub fn period_from_track(path: &Path) -> Result<Measured, PlanError> {
+    use crate::analysis::{damped, period};
+    let shown = path.display();
+    let track = crate::export::track_csv::read_track(path)
+        .map_err(|e| PlanError::Input(format!("{shown}: {e}")))?;
+    let mut t = Vec::new();
+    let mut y = Vec::new();
+    for r in &track.rows {
+        if !r.fix.status.has_position() {
+            continue;
+        }
+        let v = match (track.has_mm, r.screen, r.fix.position) {
+            (true, Some(s), _) => s.x_mm,
+            (_, _, Some(p)) => p.x,
+            _ => continue,
+        };
+        if v.is_finite() && r.t.0.is_finite() {
+            t.push(r.t.0);
+            y.push(v);
+        }
+    }
+    if t.len() < 32 {
+        return Err(PlanError::Input(format!(
+            "{shown}: only {} rows with a spot position; a period fit needs at least 32 covering a few swings",
+            t.len()
+        )));
+    }
+    let spec = period::spectrum(&t, &y, &period::SpectrumOptions::default())
+        .map_err(|e| PlanError::Input(format!("{shown}: {e}")))?;
+    let (t0, t1) = (t[0], t[t.len() - 1]);
+    if t1 - t0 < 1.5 * spec.period() {
+        return Err(PlanError::Input(format!(
+            "{shown}: the track covers {:.1} s, less than 1.5 periods (about {:.1} s); record longer",
+            t1 - t0,
+            spec.period()
+        )));
+    }
+    let fit = damped::fit_damped(
+        &t,
+        &y,
+        t0,
+        0.5 * (t0 + t1),
+        2.0 * std::f64::consts::PI / spec.period(),
+        true,
+    )
+    .map_err(|e| PlanError::Input(format!("{shown}: the damped fit failed: {e}")))?;
+    let (w0, uw) = fit.omega0();
+    let period = 2.0 * std::f64::consts::PI / w0;
+    if !(period.is_finite() && period > 0.0) {
+        return Err(PlanError::Input(format!(
+            "{shown}: the fit gave no usable frequency"
+        )));
+    }
+    Ok(Measured::new(period, period * uw / w0))
+}
