@@ -175,7 +175,7 @@ fn noisy_pairs_reach_the_accuracy_expected_from_the_noise() {
     let mut expect_mm2 = 0.0;
     for (i, &(x, y)) in probes.iter().enumerate() {
         let jq = jp.rows(2 * i, 2);
-        let s_px = &jq * &cov * jq.transpose();
+        let s_px = jq * &cov * jq.transpose();
         let d = 1e-4;
         let (a, b) = (proj(&g, x + d, y), proj(&g, x - d, y));
         let (c, e) = (proj(&g, x, y + d), proj(&g, x, y - d));
