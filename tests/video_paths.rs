@@ -373,3 +373,58 @@ fn regenerate_baseline_clip() {
         &committed_clip(),
     );
 }
+
+#[test]
+fn builtin_every_decodes_only_key_frames_and_keeps_the_same_frames() {
+    if !ffmpeg_or_skip("builtin_every_decodes_only_key_frames_and_keeps_the_same_frames") {
+        return;
+    }
+    let d = tempfile::tempdir().unwrap();
+    write_png_frames(d.path(), 45, W, H);
+    let clip = d.path().join("base_g10.mp4");
+    encode_pngs(
+        d.path(),
+        10,
+        &[
+            "-c:v",
+            "libx264",
+            "-profile:v",
+            "baseline",
+            "-pix_fmt",
+            "yuv420p",
+            "-g",
+            "10",
+            "-keyint_min",
+            "10",
+            "-sc_threshold",
+            "0",
+        ],
+        &clip,
+    );
+    let thin = OpenOptions {
+        every: Some(Seconds(1.0)),
+        ..opts(VideoDecoder::Builtin)
+    };
+    let src = spotlever::source::BuiltinH264Source::open(&clip, &thin).unwrap();
+    assert!(src.key_frames_only());
+    drop(src);
+    let (kept, err) = frames_of(&clip, &thin);
+    assert!(err.is_none(), "{err:?}");
+    let (all, _) = frames_of(&clip, &opts(VideoDecoder::Builtin));
+    let idx: Vec<u64> = kept.iter().map(|f| f.index).collect();
+    assert_eq!(idx, [0, 10, 20, 30, 40]);
+    for f in &kept {
+        let full = &all[f.index as usize];
+        assert_eq!(f.t, full.t);
+        assert_eq!(f.plane, full.plane, "frame {}", f.index);
+    }
+    // A sparser --every than the key-frame spacing still decodes key frames only; a finer one
+    // decodes everything and keeps the same rule.
+    let half = OpenOptions {
+        every: Some(Seconds(0.5)),
+        ..opts(VideoDecoder::Builtin)
+    };
+    let (kept, _) = frames_of(&clip, &half);
+    let idx: Vec<u64> = kept.iter().map(|f| f.index).collect();
+    assert_eq!(idx, [0, 5, 10, 15, 20, 25, 30, 35, 40]);
+}

@@ -35,6 +35,44 @@ pub struct BuiltinH264Source {
     last_t: f64,
     done: bool,
     rgb: Vec<u8>,
+    /// With `--every`, when every kept frame is a sync (IDR) sample: the sample numbers to decode.
+    key_plan: Option<std::collections::VecDeque<u32>>,
+}
+
+/// Sample numbers (1-based) of the frames `--every` keeps, when all of them are sync samples, from
+/// the time-to-sample and sync-sample tables (ISO/IEC 14496-12 §8.6.1.2, §8.6.2) without reading
+/// any frame. Presentation order equals decode order here (files with reordering are refused).
+fn key_plan(
+    track: &mp4::Mp4Track,
+    every: Seconds,
+    timescale: f64,
+) -> Option<std::collections::VecDeque<u32>> {
+    let stbl = &track.trak.mdia.minf.stbl;
+    let sync: Option<std::collections::HashSet<u32>> = stbl
+        .stss
+        .as_ref()
+        .map(|s| s.entries.iter().copied().collect());
+    let mut frames = Vec::new();
+    let (mut id, mut dts) = (1u32, 0u64);
+    for e in &stbl.stts.entries {
+        for _ in 0..e.sample_count {
+            let key = sync.as_ref().is_none_or(|s| s.contains(&id));
+            frames.push((id, Seconds(dts as f64 / timescale), key));
+            dts += e.sample_delta as u64;
+            id += 1;
+        }
+    }
+    if !super::keyframes_suffice(frames.iter().map(|&(_, t, k)| (t, k)), every) {
+        return None;
+    }
+    let mut thin = Thinner::new(Some(every));
+    Some(
+        frames
+            .into_iter()
+            .filter(|&(_, t, _)| thin.keep(t))
+            .map(|(i, _, _)| i)
+            .collect(),
+    )
 }
 
 fn container_guess(path: &Path) -> (String, String) {
@@ -176,6 +214,9 @@ impl BuiltinH264Source {
             track.timescale() as f64,
         );
         let (w, h) = (track.width() as usize, track.height() as usize);
+        let key_plan = opts
+            .every
+            .and_then(|e| key_plan(track, e, if timescale > 0.0 { timescale } else { 1.0 }));
         let decoder = Decoder::new().map_err(|e| SourceError::Decode {
             origin: shown.clone(),
             message: format!("cannot start the built-in H.264 decoder: {e}"),
@@ -193,7 +234,14 @@ impl BuiltinH264Source {
             .unwrap_or_default();
         Ok(Self {
             info: SourceInfo {
-                description: format!("{name}: h264 {w}x{h}, built-in decoder"),
+                description: format!(
+                    "{name}: h264 {w}x{h}, built-in decoder{}",
+                    if key_plan.is_some() {
+                        ", key frames only"
+                    } else {
+                        ""
+                    }
+                ),
                 width: w,
                 height: h,
                 expected_frames: expected,
@@ -213,7 +261,13 @@ impl BuiltinH264Source {
             last_t: 0.0,
             done: false,
             rgb: Vec::new(),
+            key_plan,
         })
+    }
+
+    /// Whether only key frames are decoded.
+    pub fn key_frames_only(&self) -> bool {
+        self.key_plan.is_some()
     }
 
     fn truncated(
@@ -238,6 +292,12 @@ impl FrameSource for BuiltinH264Source {
 
     fn next_delivery(&mut self) -> Option<Result<Delivery, SourceError>> {
         loop {
+            if let Some(plan) = self.key_plan.as_mut() {
+                match plan.pop_front() {
+                    Some(id) => self.next_sample = id,
+                    None => return None,
+                }
+            }
             if self.done || self.next_sample > self.samples {
                 return None;
             }
@@ -270,7 +330,7 @@ impl FrameSource for BuiltinH264Source {
                 }
                 continue;
             };
-            let mut annexb = if id == 1 {
+            let mut annexb = if !self.headers.is_empty() {
                 std::mem::take(&mut self.headers)
             } else {
                 Vec::new()
