@@ -231,9 +231,15 @@ fn every_decodes_only_key_frames_and_keeps_the_same_frames() {
         "one key frame per second allows key-frame decoding"
     );
     drop(src);
-    let (kept, err) = frames_of(&clip, &thin);
+    assert_keeps_same_frames(&clip, &thin, VideoDecoder::Ffmpeg);
+}
+
+/// Thinned frames are frames 0, 10, ... 40 of the full decode, with identical times, pictures and
+/// tracked positions.
+fn assert_keeps_same_frames(clip: &Path, thin: &OpenOptions, decoder: VideoDecoder) {
+    let (kept, err) = frames_of(clip, thin);
     assert!(err.is_none(), "{err:?}");
-    let (all, _) = frames_of(&clip, &opts(VideoDecoder::Ffmpeg));
+    let (all, _) = frames_of(clip, &opts(decoder));
     let idx: Vec<u64> = kept.iter().map(|f| f.index).collect();
     assert_eq!(idx, [0, 10, 20, 30, 40]);
     for f in &kept {
@@ -242,7 +248,6 @@ fn every_decodes_only_key_frames_and_keeps_the_same_frames() {
         // Key frames decode without reference to other frames, so the pictures are identical.
         assert_eq!(f.plane, full.plane, "frame {}", f.index);
     }
-    // And so are the tracked positions of the kept frames.
     let thinned: Vec<&Plane> = kept.iter().map(|f| &f.plane).collect();
     let from_full: Vec<&Plane> = kept.iter().map(|f| &all[f.index as usize].plane).collect();
     assert_eq!(track_positions(&thinned), track_positions(&from_full));
@@ -408,18 +413,9 @@ fn builtin_every_decodes_only_key_frames_and_keeps_the_same_frames() {
     let src = spotlever::source::BuiltinH264Source::open(&clip, &thin).unwrap();
     assert!(src.key_frames_only());
     drop(src);
-    let (kept, err) = frames_of(&clip, &thin);
-    assert!(err.is_none(), "{err:?}");
-    let (all, _) = frames_of(&clip, &opts(VideoDecoder::Builtin));
-    let idx: Vec<u64> = kept.iter().map(|f| f.index).collect();
-    assert_eq!(idx, [0, 10, 20, 30, 40]);
-    for f in &kept {
-        let full = &all[f.index as usize];
-        assert_eq!(f.t, full.t);
-        assert_eq!(f.plane, full.plane, "frame {}", f.index);
-    }
-    // A sparser --every than the key-frame spacing still decodes key frames only; a finer one
-    // decodes everything and keeps the same rule.
+    assert_keeps_same_frames(&clip, &thin, VideoDecoder::Builtin);
+    // A finer --every than the key-frame spacing needs the frames in between: a full decode,
+    // thinned by the same rule.
     let half = OpenOptions {
         every: Some(Seconds(0.5)),
         ..opts(VideoDecoder::Builtin)
