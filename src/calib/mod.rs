@@ -2,7 +2,10 @@
 //! pairs or from a detected ruled grid, and its calibration file.
 //!
 //! - [`file`]: the TOML calibration file (load, save, image-size check);
-//! - [`error`]: what can go wrong, naming the file and line.
+//! - [`error`]: what can go wrong, naming the file and line;
+//! - [`homography`]: the fit from point pairs; [`pairs`]: the point-pair CSV;
+//! - [`grid`]: finding a printed grid's intersections; [`report`]: the printed summary;
+//! - [`overlay`]: the check picture.
 
 pub mod error;
 pub mod file;
@@ -15,7 +18,7 @@ pub mod report;
 pub use error::CalibError;
 
 use crate::units::{PixelPoint, ScreenPoint};
-use nalgebra::{Matrix3, Vector3};
+use nalgebra::Matrix3;
 
 /// A fitted image-to-screen mapping, as stored in a calibration file.
 #[derive(Debug, Clone, PartialEq)]
@@ -40,20 +43,15 @@ pub struct Calibration {
     pub notes: String,
 }
 
-pub(crate) fn apply(h: &Matrix3<f64>, x: f64, y: f64) -> (f64, f64) {
-    let v = h * Vector3::new(x, y, 1.0);
-    (v.x / v.z, v.y / v.z)
-}
-
 impl Calibration {
     /// Map an image point to the screen.
     pub fn to_screen(&self, p: PixelPoint) -> ScreenPoint {
-        let (x_mm, y_mm) = apply(&self.h, p.x, p.y);
+        let (x_mm, y_mm) = homography::project(&self.h, p.x, p.y);
         ScreenPoint { x_mm, y_mm }
     }
     /// Map a screen point into the image.
     pub fn to_image(&self, s: ScreenPoint) -> PixelPoint {
-        let (x, y) = apply(&self.h_inv, s.x_mm, s.y_mm);
+        let (x, y) = homography::project(&self.h_inv, s.x_mm, s.y_mm);
         PixelPoint { x, y }
     }
 
