@@ -138,7 +138,8 @@ fn side(
 }
 
 /// The jump of angular acceleration at each move, from windows of `window` s either side (kept within
-/// the neighbouring segments `bounds[i]..bounds[i+1]`, and `guard` s away from the move).
+/// the neighbouring segments `bounds[i]..bounds[i+1]`, and `guard` s away from the move), for an
+/// oscillator of decay rate `gamma` (1/s) and damped angular frequency `omega_d` (rad/s).
 pub fn acceleration(
     t: &[f64],
     y: &[f64],
@@ -146,8 +147,7 @@ pub fn acceleration(
     bounds: &[(f64, f64)],
     window: f64,
     guard: f64,
-    gamma: f64,
-    omega_d: f64,
+    (gamma, omega_d): (f64, f64),
 ) -> Option<Acceleration> {
     let mut per_move = Vec::new();
     for (i, &tm) in moves.iter().enumerate() {

@@ -19,7 +19,7 @@ pub struct Extreme {
 /// Find the alternating extremes of `(t, y)` for an oscillation of period `period` (s).
 pub fn extremes(t: &[f64], y: &[f64], period: f64) -> Vec<Extreme> {
     let n = t.len().min(y.len());
-    if n < 5 || !(period > 0.0) {
+    if n < 5 || period.is_nan() || period <= 0.0 {
         return Vec::new();
     }
     let (q, edge) = (period / 4.0, period / 12.0);
