@@ -238,6 +238,10 @@ fn every_decodes_only_key_frames_and_keeps_the_same_frames() {
         // Key frames decode without reference to other frames, so the pictures are identical.
         assert_eq!(f.plane, full.plane, "frame {}", f.index);
     }
+    // And so are the tracked positions of the kept frames.
+    let thinned: Vec<&Plane> = kept.iter().map(|f| &f.plane).collect();
+    let from_full: Vec<&Plane> = kept.iter().map(|f| &all[f.index as usize].plane).collect();
+    assert_eq!(track_positions(&thinned), track_positions(&from_full));
 }
 
 #[test]
