@@ -72,8 +72,8 @@ const SPOT_Y_MM: f64 = 8.0;
 const WIDTH: usize = 320;
 const HEIGHT: usize = 240;
 const GRID_PITCH_MM: f64 = 10.0;
-const LINE_WIDTH_MM: f64 = 0.8;
-/// Every tenth line (within view: only x = 0 and y = 0) is drawn thicker so the origin can be found.
+const LINE_WIDTH_MM: f64 = 1.5;
+/// Width of the (unused) major lines; every line is drawn alike.
 const AXIS_LINE_WIDTH_MM: f64 = 2.0;
 const PAPER_DN: f64 = 110.0;
 const SPOT_PEAK_DN: f64 = 135.0;
@@ -152,7 +152,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         screen: RuledScreen {
             pitch_mm: GRID_PITCH_MM,
             line_width_mm: LINE_WIDTH_MM,
-            major_every: 10,
+            major_every: 0,
             major_width_mm: AXIS_LINE_WIDTH_MM,
             origin: ScreenPoint::default(),
             extent_mm: (-150.0, -100.0, 150.0, 100.0),

@@ -155,15 +155,15 @@ pub fn predict(
         }
     };
     let out = |f: fn(&Outputs) -> f64| propagate(&inputs, |x| f(&model(x)));
-    let inertia = out(|o| o.inertia).value;
-    let torque = out(|o| o.torque).value;
-    let kappa = out(|o| o.kappa).value;
-    let period = out(|o| o.period).value;
-    let theta_p = out(|o| o.theta);
+    let inertia = out(|o| o.inertia)?.value;
+    let torque = out(|o| o.torque)?.value;
+    let kappa = out(|o| o.kappa)?.value;
+    let period = out(|o| o.period)?.value;
+    let theta_p = out(|o| o.theta)?;
     let theta = theta_p.value;
     let mm = |m: Measured| Measured::new(m.value * 1e3, m.u * 1e3);
-    let flat = mm(out(|o| o.travel_flat_m).value);
-    let curved = mm(out(|o| o.travel_curved_m).value);
+    let flat = mm(out(|o| o.travel_flat_m)?.value);
+    let curved = mm(out(|o| o.travel_curved_m)?.value);
     let travel = match setup.lever.scale {
         ScaleShape::Flat => flat,
         ScaleShape::Curved => curved,

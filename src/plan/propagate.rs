@@ -1,7 +1,9 @@
 //! First-order propagation of uncorrelated standard uncertainties through a function of several inputs
-//! (the GUM law of propagation, JCGM 100:2008 eq. 10), with the sensitivity coefficients found by central
-//! differences.
+//! (the GUM law of propagation, JCGM 100:2008 eq. 10, computed by [`crate::analysis::uncertainty::gum`]),
+//! reported with each input's relative sensitivity d ln y / d ln x.
 
+use crate::analysis::uncertainty::{gum, Input};
+use crate::plan::PlanError;
 use crate::units::Measured;
 
 /// One input's share of an output's uncertainty.
@@ -21,48 +23,38 @@ pub struct Propagated {
     pub contributions: Vec<Contribution>,
 }
 
-/// Propagate `inputs` (name, measured value) through `f`.
-pub fn propagate(inputs: &[(String, Measured)], f: impl Fn(&[f64]) -> f64) -> Propagated {
-    let x: Vec<f64> = inputs.iter().map(|(_, m)| m.value).collect();
-    let y = f(&x);
-    let mut var = 0.0;
-    let mut contributions = Vec::with_capacity(inputs.len());
-    for (i, (name, m)) in inputs.iter().enumerate() {
-        // Step: a small fraction of the value, or of the uncertainty for a zero value.
-        let h = if m.value != 0.0 {
-            1e-6 * m.value.abs()
-        } else if m.u > 0.0 {
-            1e-3 * m.u
-        } else {
-            contributions.push(Contribution {
-                name: name.clone(),
-                relative_sensitivity: 0.0,
-                u_contribution: 0.0,
-            });
-            continue;
-        };
-        let mut xp = x.clone();
-        let mut xm = x.clone();
-        xp[i] += h;
-        xm[i] -= h;
-        let dy = (f(&xp) - f(&xm)) / (2.0 * h);
-        let c = dy * m.u;
-        var += c * c;
-        let rel = if y != 0.0 && m.value != 0.0 {
-            dy * m.value / y
-        } else {
-            0.0
-        };
-        contributions.push(Contribution {
-            name: name.clone(),
-            relative_sensitivity: rel,
-            u_contribution: c.abs(),
-        });
-    }
-    Propagated {
-        value: Measured::new(y, var.sqrt()),
+/// Propagate `inputs` (name, measured value) through `f` with the analyzer's first-order GUM
+/// propagation, adding each input's relative sensitivity.
+pub fn propagate(
+    inputs: &[(String, Measured)],
+    f: impl Fn(&[f64]) -> f64,
+) -> Result<Propagated, PlanError> {
+    let list: Vec<Input> = inputs
+        .iter()
+        .map(|(n, m)| Input::new(n, m.value, m.u, ""))
+        .collect();
+    let g = gum(&list, f).map_err(|e| {
+        PlanError::Input(format!(
+            "uncertainty propagation failed ({e}); check the design's values"
+        ))
+    })?;
+    let contributions = g
+        .budget
+        .iter()
+        .map(|l| Contribution {
+            name: l.input.clone(),
+            relative_sensitivity: if g.value != 0.0 && l.value != 0.0 {
+                l.sensitivity * l.value / g.value
+            } else {
+                0.0
+            },
+            u_contribution: l.contribution,
+        })
+        .collect();
+    Ok(Propagated {
+        value: Measured::new(g.value, g.u),
         contributions,
-    }
+    })
 }
 
 #[cfg(test)]
@@ -76,7 +68,7 @@ mod tests {
             ("a".to_string(), Measured::new(2.0, 0.02)),
             ("b".to_string(), Measured::new(5.0, 0.1)),
         ];
-        let p = propagate(&inputs, |x| 3.0 * x[0].powi(3) / x[1]);
+        let p = propagate(&inputs, |x| 3.0 * x[0].powi(3) / x[1]).unwrap();
         let rel: f64 = ((3.0_f64 * 0.01).powi(2) + 0.02_f64.powi(2)).sqrt();
         assert!((p.value.value - 4.8).abs() < 1e-12);
         assert!((p.value.relative() / rel - 1.0).abs() < 1e-6);

@@ -155,11 +155,11 @@ pub fn evaluate(input: &TrialInput, period: Measured) -> Result<TrialResult, Pla
         inputs.push((n.into(), m));
     }
     let kappa_of = |x: &[f64]| physics::torsion_constant(x[0], 2.0 * std::f64::consts::PI / x[1]);
-    let kappa = propagate(&inputs, kappa_of).value;
+    let kappa = propagate(&inputs, kappa_of)?.value;
     let section = f.section;
     let g = propagate(&inputs, |x| {
         kappa_of(x) * x[2] / section_factor(&section.with_values(&x[3..]))
-    })
+    })?
     .value;
     Ok(TrialResult {
         name: input.name.clone(),

@@ -1,0 +1,49 @@
+//! The bundled demo run through the whole chain (`spotlever demo`): the G it finds must agree with the
+//! CODATA 2018 value the frames were simulated with (G = 6.67430(15)e-11) within twice the combined
+//! standard uncertainty — the analyzer's stated uncertainty, nothing tuned.
+
+use std::process::Command;
+
+#[test]
+fn demo_recovers_codata_g_within_twice_its_uncertainty() {
+    let out_dir = tempfile::tempdir().unwrap();
+    let out = Command::new(env!("CARGO_BIN_EXE_spotlever"))
+        .args(["demo", "--out"])
+        .arg(out_dir.path())
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}\n{}",
+        String::from_utf8_lossy(&out.stdout),
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = std::fs::read_to_string(out_dir.path().join("analysis.json")).unwrap();
+    let a: serde_json::Value = serde_json::from_str(&text).unwrap();
+    let g = a["g"]["value"].as_f64().unwrap();
+    let u = a["g"]["u"].as_f64().unwrap();
+    let (codata, u_codata) = (6.674_30e-11, 0.000_15e-11);
+    assert!(u > 0.0 && u < 0.05 * g, "u = {u}");
+    let combined = (u * u + u_codata * u_codata).sqrt();
+    assert!(
+        (g - codata).abs() < 2.0 * combined,
+        "G = {g} ± {u} vs CODATA 2018 {codata}"
+    );
+    assert!(out_dir.path().join("track.csv").is_file());
+    assert!(out_dir.path().join("calibration.toml").is_file());
+}
+
+#[test]
+fn demo_with_a_missing_data_folder_says_what_to_do() {
+    let out = Command::new(env!("CARGO_BIN_EXE_spotlever"))
+        .args(["demo", "--data", "/nonexistent/demo", "--out"])
+        .arg(std::env::temp_dir().join("spotlever-demo-test-missing"))
+        .output()
+        .unwrap();
+    assert!(!out.status.success());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("make_demo_data") && err.contains("--data"),
+        "{err}"
+    );
+}
