@@ -15,6 +15,7 @@
 //! Everything is deterministic given the seed passed in (and the speckle seed of the spot).
 
 mod flat;
+pub mod motion;
 mod scene;
 mod sensor;
 mod view;
