@@ -36,7 +36,7 @@ def main():
 
     # A ruled screen seen at an angle, shared by the spot sets and the calibration check.
     h = scene.screen_to_image_h(spots.WIDTH, spots.HEIGHT, 0.4, shear=0.03, persp=(2.0e-4, -1.5e-4))
-    bg = scene.ruled_background(spots.WIDTH, spots.HEIGHT, h)
+    bg = scene.ruled_background(spots.WIDTH, spots.HEIGHT, h, level=spots.SCREEN_LEVEL, line_depth=spots.LINE_DEPTH)
 
     print("== spot positions on synthesized frames", flush=True)
     spots.run(a.bin, a.work, h, None, table)
