@@ -4,9 +4,31 @@
 //! [`Tracker`] is the stateful entry point used on a run (coarse search when the spot is unknown, then a
 //! window around the predicted position, with a slowly following background estimate); [`locate`] is the
 //! stateless one-shot search over a whole plane.
+//!
+//! How a position is made (never from the brightest pixel alone):
+//! 1. coarse search ([`search`]): 4 x 4 block means compared with a ring of blocks around them; the
+//!    strongest local excess is the candidate, and a comparable second one makes the answer
+//!    [`SpotStatus::Ambiguous`];
+//! 2. local background ([`background`]): a plane fitted robustly to a ring of pixels just outside the
+//!    spot's reach (ruling lines and clipped pixels trimmed), smoothed over frames by the [`Tracker`];
+//! 3. a thresholded, background-subtracted weighted centroid ([`centroid`]);
+//! 4. a least-squares 2-D Gaussian fit ([`fit`]) over the unclipped pixels only, so a clipped core is
+//!    located from its wings. The centroid is kept when the fit fails or wanders off.
+
+mod background;
+mod centroid;
+mod fit;
+mod image;
+mod measure;
+mod search;
+mod tracker;
+
+pub use background::LocalBackground;
+pub use tracker::Tracker;
 
 use crate::frame::Plane;
 use crate::units::PixelPoint;
+use image::{Img, Rect};
 use serde::{Deserialize, Serialize};
 
 /// How a located spot should be read.
@@ -56,15 +78,16 @@ impl SpotStatus {
 pub struct SpotFix {
     /// Subpixel centre; `None` when lost or unreadable.
     pub position: Option<PixelPoint>,
-    /// Peak value above background, DN.
+    /// Peak value above background, DN: the fitted Gaussian's amplitude (extrapolated through a clipped
+    /// core), or the observed peak when no fit was made.
     pub peak: f64,
     /// Background-subtracted sum over the spot, DN.
     pub integral: f64,
-    /// RMS radius of the spot, px.
+    /// RMS radius of the spot, px (sqrt(2) times the Gaussian sigma).
     pub width_px: f64,
-    /// Number of clipped pixels in the spot.
+    /// Number of clipped pixels in the fitted window around the spot.
     pub saturated_px: u32,
-    /// Peak over the background noise's standard deviation.
+    /// Peak over the standard deviation of the local background (sensor noise plus screen texture).
     pub snr: f64,
     pub status: SpotStatus,
 }
@@ -93,36 +116,157 @@ pub struct Roi {
     pub height: usize,
 }
 
-/// Settings of the spot finder.
+impl Roi {
+    /// Whether the rectangle is non-empty and lies wholly inside a `width` x `height` image.
+    /// (The finder itself quietly cuts an ROI to the image; callers use this to refuse bad input.)
+    pub fn fits_in(&self, width: usize, height: usize) -> bool {
+        self.width > 0
+            && self.height > 0
+            && self.x.checked_add(self.width).is_some_and(|e| e <= width)
+            && self.y.checked_add(self.height).is_some_and(|e| e <= height)
+    }
+}
+
+/// Settings of the spot finder. Build with `SpotConfig { roi, ..SpotConfig::default() }`.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SpotConfig {
-    /// Only look inside this rectangle.
+    /// Only look inside this rectangle (cut to the image).
     pub roi: Option<Roi>,
+    /// Largest Gaussian sigma of the spot the windows are sized for, px (default 6). Wider spots are
+    /// still found, but measured in a window that is too small for them.
+    pub max_sigma_px: f64,
+    /// A spot whose fitted peak is below this many background standard deviations is lost (default 6).
+    pub min_snr: f64,
+    /// A second spot whose search contrast is at least this fraction of the first's makes the answer
+    /// ambiguous (default 0.5).
+    pub ambiguity_ratio: f64,
+    /// Half-size of the tracking window around the predicted position, px (default 24): how far the spot
+    /// may stray from the prediction between two frames before a full search is needed.
+    pub track_radius_px: usize,
+    /// Weight of each new frame in the tracker's smoothed background, 0 to 1 (default 0.2; 1 = no
+    /// smoothing).
+    pub background_weight: f64,
+    /// Also run a full search every this many tracked frames, to notice a second spot (0 = only when
+    /// lost; default 0).
+    pub full_search_every: u32,
+    /// Refine the centroid with a Gaussian fit (default true).
+    pub fit: bool,
 }
 
 impl Default for SpotConfig {
     fn default() -> Self {
-        Self { roi: None }
+        Self {
+            roi: None,
+            max_sigma_px: 6.0,
+            min_snr: 6.0,
+            ambiguity_ratio: 0.5,
+            track_radius_px: 24,
+            background_weight: 0.2,
+            full_search_every: 0,
+            fit: true,
+        }
     }
 }
 
-/// One-shot search over the whole plane (or the configured ROI).
-pub fn locate(_plane: &Plane, _config: &SpotConfig) -> SpotFix {
-    todo!("spot finder")
-}
-
-/// Follows the spot frame to frame.
-#[derive(Debug, Clone)]
-pub struct Tracker {
-    config: SpotConfig,
-}
-
-impl Tracker {
-    pub fn new(config: SpotConfig) -> Self {
-        Self { config }
+impl SpotConfig {
+    /// Radius of the background ring around a spot, px: three of the largest sigmas plus a margin.
+    pub(crate) fn reach_px(&self) -> usize {
+        let s = if self.max_sigma_px.is_finite() {
+            self.max_sigma_px.clamp(0.5, 50.0)
+        } else {
+            6.0
+        };
+        (3.0 * s).ceil() as usize + 4
     }
-    /// Locate the spot in the next plane of the run.
-    pub fn process(&mut self, plane: &Plane) -> SpotFix {
-        locate(plane, &self.config)
+
+    /// The same settings with every number forced into a usable range.
+    pub(crate) fn sanitised(&self) -> SpotConfig {
+        let finite_or = |v: f64, d: f64| if v.is_finite() { v } else { d };
+        SpotConfig {
+            roi: self.roi,
+            max_sigma_px: finite_or(self.max_sigma_px, 6.0).clamp(0.5, 50.0),
+            min_snr: finite_or(self.min_snr, 6.0).max(0.0),
+            ambiguity_ratio: finite_or(self.ambiguity_ratio, 0.5).max(0.0),
+            track_radius_px: self.track_radius_px.max(4),
+            background_weight: finite_or(self.background_weight, 0.2).clamp(0.0, 1.0),
+            full_search_every: self.full_search_every,
+            fit: self.fit,
+        }
+    }
+}
+
+/// One-shot search over the whole plane (or the configured ROI): coarse search, then measurement of the
+/// strongest candidate. `Lost` when nothing stands out, `Ambiguous` when a comparable second spot exists.
+pub fn locate(plane: &Plane, config: &SpotConfig) -> SpotFix {
+    with_image(plane, |img| {
+        let config = config.sanitised();
+        match Rect::for_image(img.w, img.h, config.roi) {
+            Some(rect) => full_search(img, &rect, &config, &mut |b| b).0,
+            None => SpotFix::without_position(SpotStatus::Lost),
+        }
+    })
+}
+
+/// Run `f` on a row-major view of `plane`, copying it first if its storage is not in standard layout.
+pub(crate) fn with_image<T>(plane: &Plane, f: impl FnOnce(&Img) -> T) -> T {
+    match Img::of(plane) {
+        Some(img) => f(&img),
+        None => {
+            let owned = Plane::new(plane.pixels.as_standard_layout().into_owned(), plane.white);
+            match Img::of(&owned) {
+                Some(img) => f(&img),
+                None => f(&Img {
+                    data: &[],
+                    w: 0,
+                    h: 0,
+                    white: plane.white,
+                }),
+            }
+        }
+    }
+}
+
+/// Coarse search of `rect` and measurement of the best candidate, with the background passed through
+/// `filter`. Returns the answer and the background used (when a spot was measured).
+pub(crate) fn full_search(
+    img: &Img,
+    rect: &Rect,
+    config: &SpotConfig,
+    filter: &mut dyn FnMut(LocalBackground) -> LocalBackground,
+) -> (SpotFix, Option<LocalBackground>) {
+    let found = search::coarse_search(img, rect, config.max_sigma_px);
+    // Block means average 16 pixels, so the block contrast's spread is about a quarter of the pixel
+    // noise; the floor keeps a noise-free blank frame from counting rounding steps as a spot.
+    let floor = found.noise.max(0.25);
+    let significant =
+        |c: &search::Candidate| c.contrast >= config.min_snr * floor && c.contrast >= 2.0;
+    let Some(best) = found.best.filter(significant) else {
+        return (SpotFix::without_position(SpotStatus::Lost), None);
+    };
+    let seed = measure::brightest_patch(img, rect, best.x, best.y, search::BLOCK);
+    let Some(m) = measure::measure(img, rect, seed, config, filter) else {
+        return (SpotFix::without_position(SpotStatus::Lost), None);
+    };
+    let mut fix = judge(m.fix, config);
+    let rival = found
+        .second
+        .filter(significant)
+        .filter(|s| s.contrast >= config.ambiguity_ratio * best.contrast);
+    if fix.position.is_some() && rival.is_some() {
+        fix.status = SpotStatus::Ambiguous;
+    }
+    (fix, Some(m.background))
+}
+
+/// Turn a measurement into `Lost` when it does not stand out enough.
+pub(crate) fn judge(fix: SpotFix, config: &SpotConfig) -> SpotFix {
+    if fix.snr >= config.min_snr && fix.position.is_some() {
+        fix
+    } else {
+        SpotFix {
+            position: None,
+            status: SpotStatus::Lost,
+            ..fix
+        }
     }
 }

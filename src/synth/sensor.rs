@@ -4,7 +4,7 @@
 use super::{check_at_least, SynthError};
 use crate::frame::Plane;
 use ndarray::Array2;
-use rand::rngs::StdRng;
+use rand::rngs::SmallRng;
 use rand::SeedableRng;
 use rand_distr::{Distribution, Normal};
 
@@ -63,7 +63,7 @@ impl Sensor {
             gaussian_blur(&mut light, width, height, self.blur_sigma_px);
         }
         let white = self.white as f32;
-        let mut rng = StdRng::seed_from_u64(seed);
+        let mut rng = SmallRng::seed_from_u64(seed);
         // `validate` keeps noise_dn finite and non-negative, so the distribution exists.
         let pixels: Vec<u16> = match Normal::new(0.0f32, self.noise_dn as f32) {
             Ok(normal) if self.noise_dn > 0.0 => light
@@ -98,11 +98,19 @@ fn gaussian_blur(buf: &mut [f32], width: usize, height: usize, sigma: f64) {
     for y in 0..height {
         let row = &buf[y * width..(y + 1) * width];
         let out = &mut tmp[y * width..(y + 1) * width];
+        let r = radius as usize;
         for (x, o) in out.iter_mut().enumerate() {
             let mut acc = 0.0;
-            for (j, &kv) in kernel.iter().enumerate() {
-                let xx = (x as isize + j as isize - radius).clamp(0, width as isize - 1) as usize;
-                acc += kv * row[xx];
+            if x >= r && x + r < width {
+                for (kv, &v) in kernel.iter().zip(&row[x - r..=x + r]) {
+                    acc += kv * v;
+                }
+            } else {
+                for (j, &kv) in kernel.iter().enumerate() {
+                    let xx =
+                        (x as isize + j as isize - radius).clamp(0, width as isize - 1) as usize;
+                    acc += kv * row[xx];
+                }
             }
             *o = acc;
         }

@@ -1,0 +1,164 @@
+//! From a rough seed to a subpixel position and quality figures: local background, thresholded
+//! background-subtracted centroid, then a Gaussian fit over the unclipped pixels.
+
+use super::background::{ring_background, LocalBackground};
+use super::centroid::weighted_centroid;
+use super::fit::{fit_gaussian, Gaussian, Sample};
+use super::image::{Img, Rect};
+use super::{SpotConfig, SpotFix, SpotStatus};
+use crate::units::PixelPoint;
+
+/// A measured spot and the background it was measured against.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Measurement {
+    pub fix: SpotFix,
+    pub background: LocalBackground,
+}
+
+/// The brightest 3 x 3 neighbourhood within `half` px of (x, y): a starting point only.
+pub(crate) fn brightest_patch(
+    img: &Img,
+    rect: &Rect,
+    x: usize,
+    y: usize,
+    half: usize,
+) -> (usize, usize) {
+    let Some(win) = rect.around(x as f64, y as f64, half) else {
+        return (x, y);
+    };
+    let mut best = (x.clamp(win.x0, win.x1 - 1), y.clamp(win.y0, win.y1 - 1));
+    let mut best_sum = 0u32;
+    for yy in win.y0..win.y1 {
+        for xx in win.x0..win.x1 {
+            let mut s = 0u32;
+            for ny in yy.saturating_sub(1).max(rect.y0)..(yy + 2).min(rect.y1) {
+                for nx in xx.saturating_sub(1).max(rect.x0)..(xx + 2).min(rect.x1) {
+                    s += img.get(nx, ny) as u32;
+                }
+            }
+            if s > best_sum {
+                best_sum = s;
+                best = (xx, yy);
+            }
+        }
+    }
+    best
+}
+
+/// Measure the spot seeded at pixel (sx, sy). `prior` replaces the freshly measured background when
+/// the caller has a better (smoothed) one; `filter` turns the fresh one into that better one.
+pub(crate) fn measure(
+    img: &Img,
+    rect: &Rect,
+    (sx, sy): (usize, usize),
+    config: &SpotConfig,
+    filter: &mut dyn FnMut(LocalBackground) -> LocalBackground,
+) -> Option<Measurement> {
+    let reach = config.reach_px();
+    let fresh = ring_background(img, rect, sx, sy, reach, 3)?;
+    let bg = filter(fresh);
+    let noise = bg.noise;
+
+    // Observed peak above background around the seed.
+    let mut peak_obs = 0.0f64;
+    if let Some(core) = rect.around(sx as f64, sy as f64, 2) {
+        for y in core.y0..core.y1 {
+            for x in core.x0..core.x1 {
+                let v = img.get(x, y);
+                peak_obs = peak_obs.max(v as f64 - bg.at(x as f64, y as f64));
+            }
+        }
+    }
+    if peak_obs <= 0.0 {
+        return None;
+    }
+    // Centroid of the light above a threshold, recentred a few times.
+    let threshold = (3.0 * noise).max(0.2 * peak_obs);
+    let mut centre = PixelPoint {
+        x: sx as f64,
+        y: sy as f64,
+    };
+    let mut half_max_px = 0usize;
+    for _ in 0..4 {
+        let c = weighted_centroid(img, rect, centre, reach - 3, &bg, threshold, 0.5 * peak_obs)?;
+        let moved = (c.x - centre.x).abs().max((c.y - centre.y).abs());
+        centre = PixelPoint { x: c.x, y: c.y };
+        half_max_px = c.above_half;
+        if moved < 0.01 {
+            break;
+        }
+    }
+    // Width from the area above half the observed peak: pi r^2 with r = sigma sqrt(2 ln 2).
+    let sigma0 = ((half_max_px.max(1) as f64 / std::f64::consts::PI).sqrt()
+        / (2.0 * std::f64::consts::LN_2).sqrt())
+    .clamp(0.6, config.max_sigma_px);
+
+    // Fit window and samples (clipped pixels censored, slopes removed).
+    let fit_half = ((3.5 * sigma0).ceil() as usize).clamp(4, reach);
+    let win = rect.around(centre.x, centre.y, fit_half)?;
+    let mut samples = Vec::with_capacity(win.width() * win.height());
+    let mut saturated_px = 0u32;
+    let mut sum_above = 0.0;
+    for y in win.y0..win.y1 {
+        for (i, &v) in img.row(y, win.x0, win.x1).iter().enumerate() {
+            let x = (win.x0 + i) as f64;
+            let yf = y as f64;
+            let b = bg.at(x, yf);
+            sum_above += v as f64 - b;
+            if v >= img.white {
+                saturated_px += 1;
+            }
+            if !img.clipped(v) {
+                samples.push(Sample {
+                    x,
+                    y: yf,
+                    v: v as f64 - (b - bg.level),
+                });
+            }
+        }
+    }
+    let amp0 = if saturated_px > 0 {
+        1.5 * peak_obs
+    } else {
+        peak_obs
+    };
+    let start = Gaussian {
+        x0: centre.x,
+        y0: centre.y,
+        amp: amp0,
+        offset: bg.level,
+        sigma: sigma0,
+    };
+    let fitted = if config.fit {
+        fit_gaussian(&samples, start).filter(|g| {
+            (g.x0 - centre.x).abs().max((g.y0 - centre.y).abs()) < sigma0.max(1.5)
+                && g.sigma > 0.3
+                && g.sigma < 2.0 * config.max_sigma_px
+                && win.contains(g.x0, g.y0)
+        })
+    } else {
+        None
+    };
+    let (position, amp, sigma) = match fitted {
+        Some(g) => (PixelPoint { x: g.x0, y: g.y0 }, g.amp, g.sigma),
+        None => (centre, peak_obs, sigma0),
+    };
+    let fix = SpotFix {
+        position: Some(position),
+        peak: amp,
+        integral: sum_above,
+        // RMS radius of an isotropic Gaussian: sqrt(<x^2 + y^2>) = sqrt(2) sigma.
+        width_px: std::f64::consts::SQRT_2 * sigma,
+        saturated_px,
+        snr: amp / noise,
+        status: if saturated_px > 0 {
+            SpotStatus::Saturated
+        } else {
+            SpotStatus::Ok
+        },
+    };
+    Some(Measurement {
+        fix,
+        background: bg,
+    })
+}

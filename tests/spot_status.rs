@@ -1,0 +1,297 @@
+//! Behaviour of the spot finder beyond raw accuracy: each status, the quality figures, the background
+//! following changing light, the ROI, and tracking a moving spot.
+
+use ndarray::Array2;
+use rand::rngs::StdRng;
+use rand::SeedableRng;
+use rand_distr::{Distribution, Normal};
+use spotlever::frame::Plane;
+use spotlever::spot::{locate, Roi, SpotConfig, SpotStatus, Tracker};
+use spotlever::synth::{render_flat_spot, FlatSpot, Sensor};
+use spotlever::units::PixelPoint;
+
+/// Per-axis Cramér–Rao bound for a sigma 2.5 px, 180 DN spot in 3 DN noise, about 0.0134 px; computed
+/// in tests/spot_accuracy.rs from the Fisher information (Kay vol. 1, ch. 3).
+const CRB_AXIS_PX: f64 = 0.0134;
+
+/// A plane with Gaussian spots (centre, peak) on `background(x, y)`, 3 DN noise, rounded and clipped
+/// at 255.
+fn plane_with(
+    w: usize,
+    h: usize,
+    spots: &[(PixelPoint, f64)],
+    sigma: f64,
+    background: impl Fn(f64, f64) -> f64,
+    seed: u64,
+) -> Plane {
+    let mut rng = StdRng::seed_from_u64(seed);
+    let noise = Normal::new(0.0, 3.0).unwrap();
+    let px = Array2::from_shape_fn((h, w), |(y, x)| {
+        let (xf, yf) = (x as f64, y as f64);
+        let mut v = background(xf, yf) + noise.sample(&mut rng);
+        for (c, a) in spots {
+            v += a * (-((xf - c.x).powi(2) + (yf - c.y).powi(2)) / (2.0 * sigma * sigma)).exp();
+        }
+        v.round().clamp(0.0, 255.0) as u16
+    });
+    Plane::new(px, 255)
+}
+
+fn pt(x: f64, y: f64) -> PixelPoint {
+    PixelPoint { x, y }
+}
+
+fn dist(a: PixelPoint, b: PixelPoint) -> f64 {
+    ((a.x - b.x).powi(2) + (a.y - b.y).powi(2)).sqrt()
+}
+
+#[test]
+fn blank_frames_are_lost() {
+    let config = SpotConfig::default();
+    let noisy = plane_with(320, 240, &[], 2.5, |_, _| 40.0, 1);
+    let fix = locate(&noisy, &config);
+    assert_eq!(fix.status, SpotStatus::Lost);
+    assert!(fix.position.is_none());
+    let flat = Plane::new(Array2::from_elem((240, 320), 40u16), 255);
+    assert_eq!(locate(&flat, &config).status, SpotStatus::Lost);
+    let black = Plane::new(Array2::zeros((240, 320)), 255);
+    assert_eq!(locate(&black, &config).status, SpotStatus::Lost);
+    let tiny = Plane::new(Array2::from_elem((3, 2), 40u16), 255);
+    assert_eq!(locate(&tiny, &config).status, SpotStatus::Lost);
+    let mut tracker = Tracker::new(config);
+    assert_eq!(tracker.process(&noisy).status, SpotStatus::Lost);
+}
+
+#[test]
+fn two_equal_spots_are_ambiguous() {
+    let p = plane_with(
+        320,
+        240,
+        &[(pt(80.3, 100.6), 150.0), (pt(230.7, 140.2), 150.0)],
+        2.5,
+        |_, _| 40.0,
+        2,
+    );
+    let fix = locate(&p, &SpotConfig::default());
+    assert_eq!(fix.status, SpotStatus::Ambiguous);
+    // The position is one of the two spots, not somewhere between.
+    let pos = fix.position.expect("the stronger spot's position");
+    assert!(dist(pos, pt(80.3, 100.6)) < 0.1 || dist(pos, pt(230.7, 140.2)) < 0.1);
+    // A much weaker second spot (a fifth) does not make it ambiguous.
+    let p = plane_with(
+        320,
+        240,
+        &[(pt(80.3, 100.6), 150.0), (pt(230.7, 140.2), 30.0)],
+        2.5,
+        |_, _| 40.0,
+        3,
+    );
+    let fix = locate(&p, &SpotConfig::default());
+    assert_eq!(fix.status, SpotStatus::Ok);
+    assert!(dist(fix.position.unwrap(), pt(80.3, 100.6)) < 0.1);
+}
+
+#[test]
+fn clipped_spot_is_saturated_and_its_peak_extrapolated() {
+    let spot = FlatSpot {
+        width: 96,
+        height: 96,
+        centre: pt(47.3, 48.8),
+        peak_dn: 600.0,
+        background_dn: 40.0,
+        sigma_px: 2.5,
+        sensor: Sensor {
+            noise_dn: 3.0,
+            blur_sigma_px: 0.0,
+            white: 255,
+        },
+    };
+    let plane = render_flat_spot(&spot, 4).unwrap();
+    let clipped = plane.pixels.iter().filter(|&&v| v == 255).count() as u32;
+    let fix = locate(&plane, &SpotConfig::default());
+    assert_eq!(fix.status, SpotStatus::Saturated);
+    assert!(fix.status.has_position());
+    // All clipped pixels of the frame belong to the spot and lie in the fitted window.
+    assert_eq!(fix.saturated_px, clipped);
+    assert!(clipped > 5);
+    // The amplitude comes from the wings' shape, so it exceeds what the sensor could show.
+    assert!(fix.peak > 255.0 - 40.0, "peak {}", fix.peak);
+    assert!(dist(fix.position.unwrap(), spot.centre) < 0.05);
+}
+
+#[test]
+fn quality_figures_match_the_drawn_spot() {
+    let spot = FlatSpot {
+        width: 96,
+        height: 96,
+        centre: pt(40.2, 55.7),
+        peak_dn: 180.0,
+        background_dn: 40.0,
+        sigma_px: 2.5,
+        sensor: Sensor {
+            noise_dn: 3.0,
+            blur_sigma_px: 0.0,
+            white: 255,
+        },
+    };
+    let fix = locate(&render_flat_spot(&spot, 5).unwrap(), &SpotConfig::default());
+    assert_eq!(fix.status, SpotStatus::Ok);
+    assert_eq!(fix.saturated_px, 0);
+    // RMS radius of an isotropic Gaussian is sqrt(2) sigma (common practice, no source); the fitted
+    // sigma's own scatter here is well under 1 %.
+    let rms_radius = 2.0f64.sqrt() * 2.5;
+    assert!(
+        (fix.width_px / rms_radius - 1.0).abs() < 0.03,
+        "{}",
+        fix.width_px
+    );
+    // Volume of a 2-D Gaussian: 2 pi sigma^2 A (common practice, no source). The window sum adds the
+    // noise of about 300 pixels (3 DN x sqrt(300) ~ 52 DN) to about 7070 DN: allow 5 %.
+    let volume = 2.0 * std::f64::consts::PI * 2.5 * 2.5 * 180.0;
+    assert!(
+        (fix.integral / volume - 1.0).abs() < 0.05,
+        "{}",
+        fix.integral
+    );
+    assert!((fix.peak / 180.0 - 1.0).abs() < 0.05, "{}", fix.peak);
+    // SNR = peak / noise; the noise comes from a few hundred ring pixels via the MAD, whose relative
+    // standard error is about 1.17 / sqrt(n) (common practice, from memory): allow 20 %.
+    assert!((fix.snr / (180.0 / 3.0) - 1.0).abs() < 0.2, "{}", fix.snr);
+}
+
+#[test]
+fn spatial_background_slope_does_not_shift_the_spot() {
+    // 0.5 DN per px across x and 0.25 DN per px down: a plain centroid would be pulled uphill.
+    let n = 100;
+    let (mut ex, mut ey) = (0.0, 0.0);
+    for i in 0..n {
+        let c = pt(60.0 + 0.0137 * i as f64, 50.0 + 0.0091 * i as f64);
+        let p = plane_with(
+            120,
+            100,
+            &[(c, 180.0)],
+            2.5,
+            |x, y| 20.0 + 0.5 * x + 0.25 * y,
+            100 + i,
+        );
+        let fix = locate(&p, &SpotConfig::default());
+        assert_eq!(fix.status, SpotStatus::Ok);
+        let q = fix.position.unwrap();
+        ex += q.x - c.x;
+        ey += q.y - c.y;
+    }
+    let (bx, by) = (ex / n as f64, ey / n as f64);
+    // An unbiased estimator's mean error over n trials has standard deviation bound / sqrt(n); allow
+    // five of them (about 0.0067 px).
+    let tol = 5.0 * CRB_AXIS_PX / (n as f64).sqrt();
+    assert!(
+        bx.abs() < tol && by.abs() < tol,
+        "bias ({bx}, {by}), tolerance {tol}"
+    );
+}
+
+#[test]
+fn tracker_background_follows_slowly_rising_room_light() {
+    let config = SpotConfig::default();
+    let weight = config.background_weight;
+    let mut tracker = Tracker::new(config);
+    let rate = 0.5; // DN per frame
+    let frames = 80;
+    for f in 0..frames {
+        let level = 40.0 + rate * f as f64;
+        let c = pt(100.0 + 0.2 * f as f64, 80.0 + 0.05 * f as f64);
+        let p = plane_with(220, 160, &[(c, 150.0)], 2.5, |_, _| level, 500 + f);
+        let fix = tracker.process(&p);
+        assert_eq!(fix.status, SpotStatus::Ok, "frame {f}");
+        // 0.1 px is about seven times the per-axis bound of a similar spot; a mis-handled background
+        // would show up in the amplitude first.
+        assert!(dist(fix.position.unwrap(), c) < 0.1, "frame {f}");
+        if f > 40 {
+            // An exponentially weighted average with weight w lags a ramp of r per frame by
+            // r (1 - w) / w in steady state (standard property of that filter). Each frame's level comes
+            // from ~500 ring pixels (3 DN / sqrt(500) ~ 0.13 DN); allow 0.5 DN around the lagged value.
+            let lag = rate * (1.0 - weight) / weight;
+            let b = tracker.background().expect("a background").level;
+            assert!(
+                (b - (level - lag)).abs() < 0.5,
+                "frame {f}: background {b}, light {level}, expected lag {lag}"
+            );
+            assert!((fix.peak / 150.0 - 1.0).abs() < 0.05, "peak {}", fix.peak);
+        }
+    }
+}
+
+#[test]
+fn roi_is_respected() {
+    let bright = pt(50.4, 60.3);
+    let dim = pt(250.6, 150.2);
+    let p = plane_with(
+        320,
+        240,
+        &[(bright, 200.0), (dim, 100.0)],
+        2.5,
+        |_, _| 40.0,
+        7,
+    );
+    let roi = Roi {
+        x: 180,
+        y: 100,
+        width: 120,
+        height: 120,
+    };
+    let config = SpotConfig {
+        roi: Some(roi),
+        ..SpotConfig::default()
+    };
+    let fix = locate(&p, &config);
+    assert_eq!(fix.status, SpotStatus::Ok);
+    assert!(dist(fix.position.unwrap(), dim) < 0.1);
+    let mut tracker = Tracker::new(config);
+    for _ in 0..3 {
+        let fix = tracker.process(&p);
+        assert!(dist(fix.position.unwrap(), dim) < 0.1);
+    }
+    // Without the ROI the brighter spot wins (and the pair is ambiguous: the dim one is half as bright).
+    let free = locate(&p, &SpotConfig::default());
+    assert!(dist(free.position.unwrap(), bright) < 0.1);
+    // An ROI that misses the image finds nothing, and says so without a panic.
+    let outside = SpotConfig {
+        roi: Some(Roi {
+            x: 400,
+            y: 10,
+            width: 50,
+            height: 50,
+        }),
+        ..SpotConfig::default()
+    };
+    assert_eq!(locate(&p, &outside).status, SpotStatus::Lost);
+    assert!(!outside.roi.unwrap().fits_in(320, 240));
+    assert!(roi.fits_in(320, 240));
+}
+
+#[test]
+fn tracker_follows_a_moving_spot_and_recovers_after_a_jump() {
+    let mut tracker = Tracker::new(SpotConfig::default());
+    for f in 0..40 {
+        // Up to 6 px per frame, speeding up: the prediction from the last step keeps up.
+        let c = if f < 30 {
+            pt(60.0 + 0.1 * (f * f) as f64, 90.0 + 1.5 * f as f64)
+        } else {
+            // A jump far outside the tracking window.
+            pt(400.0 + f as f64, 60.0)
+        };
+        let p = plane_with(480, 240, &[(c, 160.0)], 2.5, |_, _| 30.0, 900 + f);
+        let fix = tracker.process(&p);
+        assert_eq!(fix.status, SpotStatus::Ok, "frame {f}");
+        assert!(
+            dist(fix.position.unwrap(), c) < 0.1,
+            "frame {f}: {fix:?} vs {c:?}"
+        );
+    }
+    // Losing the spot, then finding it again.
+    let blank = plane_with(480, 240, &[], 2.5, |_, _| 30.0, 1);
+    assert_eq!(tracker.process(&blank).status, SpotStatus::Lost);
+    let c = pt(123.4, 111.1);
+    let p = plane_with(480, 240, &[(c, 160.0)], 2.5, |_, _| 30.0, 2);
+    assert!(dist(tracker.process(&p).position.unwrap(), c) < 0.1);
+}
