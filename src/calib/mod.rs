@@ -6,6 +6,11 @@
 
 pub mod error;
 pub mod file;
+pub mod grid;
+pub mod homography;
+pub mod overlay;
+pub mod pairs;
+pub mod report;
 
 pub use error::CalibError;
 
@@ -99,5 +104,29 @@ impl Calibration {
             x: (self.image_width as f64 - 1.0) / 2.0,
             y: (self.image_height as f64 - 1.0) / 2.0,
         })
+    }
+}
+
+impl Calibration {
+    /// A calibration from a fitted homography, stamped with the current time.
+    pub fn from_fit(
+        fit: &homography::HomographyFit,
+        image_width: u32,
+        image_height: u32,
+        source_image: &str,
+        notes: &str,
+    ) -> Calibration {
+        Calibration {
+            image_width,
+            image_height,
+            h: fit.h,
+            h_inv: fit.h_inv,
+            rms_px: fit.rms_px(),
+            rms_mm: fit.rms_mm(),
+            points: fit.used.len(),
+            source_image: source_image.to_string(),
+            created: file::utc_now_rfc3339(),
+            notes: notes.to_string(),
+        }
     }
 }
