@@ -1,10 +1,149 @@
-//! `spotlever track`.
+//! `spotlever track`: follow the spot through an image sequence or a video and write the track file.
 
+use anyhow::Context;
 use clap::Args;
+use indicatif::{ProgressBar, ProgressStyle};
+use spotlever::calib::Calibration;
+use spotlever::export::track_csv::TrackWriter;
+use spotlever::frame::Channel;
+use spotlever::source::drive::run_tracker;
+use spotlever::source::{open, OpenOptions, SourceInfo, VideoDecoder};
+use spotlever::spot::{Roi, SpotConfig, Tracker};
+use spotlever::units::Seconds;
+use std::io::IsTerminal;
+use std::path::PathBuf;
 
 #[derive(Debug, Args)]
-pub struct TrackArgs {}
+pub struct TrackArgs {
+    /// A folder of images, a pattern such as 'frames/*.png', or a video file.
+    pub input: PathBuf,
+    /// Screen calibration (from 'spotlever calibrate'): adds x_mm,y_mm columns.
+    #[arg(long, value_name = "FILE")]
+    pub calib: Option<PathBuf>,
+    /// Times of an image sequence, CSV 'file,t_s' (default: times.csv beside the images).
+    #[arg(long, value_name = "FILE", conflicts_with = "fps")]
+    pub times: Option<PathBuf>,
+    /// Frame rate of an image sequence without a times file.
+    #[arg(long, value_name = "F")]
+    pub fps: Option<f64>,
+    /// Keep at most one frame per interval of this many seconds.
+    #[arg(long, value_name = "SECONDS")]
+    pub every: Option<f64>,
+    /// Colour channel to track in (a red laser shows best in red).
+    #[arg(long, value_enum, default_value_t = Channel::Luma)]
+    pub channel: Channel,
+    /// Only look inside this rectangle of the image, in pixels.
+    #[arg(long, value_name = "X,Y,W,H", value_parser = parse_roi)]
+    pub roi: Option<Roi>,
+    /// Which video decoder to use.
+    #[arg(long, value_enum, default_value_t = VideoDecoder::Auto)]
+    pub decoder: VideoDecoder,
+    /// The track file to write (CSV).
+    #[arg(long, value_name = "FILE")]
+    pub out: PathBuf,
+}
 
-pub fn run(_args: TrackArgs) -> anyhow::Result<()> {
-    anyhow::bail!("'spotlever track' is not built yet")
+fn parse_roi(s: &str) -> Result<Roi, String> {
+    let v: Vec<&str> = s.split(',').map(str::trim).collect();
+    let nums: Option<Vec<usize>> = v.iter().map(|x| x.parse().ok()).collect();
+    match nums.as_deref() {
+        Some(&[x, y, width, height]) if width > 0 && height > 0 => Ok(Roi {
+            x,
+            y,
+            width,
+            height,
+        }),
+        _ => Err(format!(
+            "{s:?} is not X,Y,W,H in whole pixels with W and H above zero (e.g. 100,50,640,480)"
+        )),
+    }
+}
+
+fn check_roi(roi: &Roi, info: &SourceInfo) -> anyhow::Result<()> {
+    if !roi.fits_in(info.width, info.height) {
+        anyhow::bail!(
+            "--roi {},{},{},{} reaches x = {}, y = {} but the image is {}x{}; give a rectangle inside the image",
+            roi.x,
+            roi.y,
+            roi.width,
+            roi.height,
+            roi.x + roi.width,
+            roi.y + roi.height,
+            info.width,
+            info.height
+        );
+    }
+    Ok(())
+}
+
+fn progress_bar(len: Option<u64>) -> ProgressBar {
+    if !std::io::stderr().is_terminal() {
+        return ProgressBar::hidden();
+    }
+    let bar = match len {
+        Some(n) => ProgressBar::new(n),
+        None => ProgressBar::no_length(),
+    };
+    let style = ProgressStyle::with_template("{bar:40} {pos}/{len} frames  {per_sec}  ETA {eta}")
+        .unwrap_or_else(|_| ProgressStyle::default_bar());
+    bar.set_style(style);
+    bar
+}
+
+pub fn run(args: TrackArgs) -> anyhow::Result<()> {
+    let opts = OpenOptions {
+        channel: args.channel,
+        every: args.every.map(Seconds),
+        fps: args.fps,
+        times: args.times.clone(),
+        decoder: args.decoder,
+    };
+    let mut source = open(&args.input, &opts)?;
+    let info = source.info().clone();
+    if let Some(roi) = &args.roi {
+        check_roi(roi, &info)?;
+    }
+    eprintln!("reading {}", info.description);
+    let calib = match &args.calib {
+        None => None,
+        Some(p) => {
+            let c = Calibration::load(p)?;
+            c.check_image_size(info.width as u32, info.height as u32)
+                .with_context(|| {
+                    format!("{} cannot be used for {}", p.display(), info.description)
+                })?;
+            Some(c)
+        }
+    };
+    let config = SpotConfig {
+        roi: args.roi,
+        ..SpotConfig::default()
+    };
+    let mut tracker = Tracker::new(config);
+    let mut writer = TrackWriter::create(&args.out, calib.is_some())?;
+    let bar = progress_bar(info.expected_frames);
+    let summary = run_tracker::<anyhow::Error>(
+        source.as_mut(),
+        &mut tracker,
+        |row, _| {
+            let mut row = row.clone();
+            if let (Some(c), Some(p)) = (&calib, row.fix.position) {
+                row.screen = Some(c.to_screen(p));
+            }
+            writer
+                .write(&row)
+                .with_context(|| format!("writing frame {}", row.frame))
+        },
+        |s| bar.set_position(s.frames),
+    )?;
+    bar.finish_and_clear();
+    writer.flush()?;
+    for note in &summary.unreadable_notes {
+        eprintln!("unreadable: {note}");
+    }
+    eprintln!("{summary}; wrote {}", args.out.display());
+    if let Some(stop) = summary.stopped {
+        return Err(stop.into());
+    }
+    Ok(())
 }

@@ -11,6 +11,7 @@ use std::path::{Path, PathBuf};
 use thiserror::Error;
 
 mod annexb;
+pub mod drive;
 mod ffmpeg;
 mod h264;
 mod natural;

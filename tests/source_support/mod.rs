@@ -1,0 +1,119 @@
+//! Helpers shared by the source, video and track tests: rendered test frames with known spot
+//! centres, an ffmpeg gate that skips loudly (or fails when SPOTLEVER_REQUIRE_FFMPEG=1), and small
+//! wrappers around the `ffmpeg` program.
+#![allow(dead_code)]
+
+use spotlever::synth::{render_flat_spot, FlatSpot, Sensor};
+use spotlever::units::PixelPoint;
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+/// A synthesizer frame: Gaussian spot sigma 2.5 px, peak 180 DN over 40 DN, noise 2 DN, 8-bit.
+pub fn render_gray(w: usize, h: usize, cx: f64, cy: f64, seed: u64) -> Vec<u8> {
+    let spot = FlatSpot {
+        width: w,
+        height: h,
+        centre: PixelPoint { x: cx, y: cy },
+        peak_dn: 180.0,
+        background_dn: 40.0,
+        sigma_px: 2.5,
+        sensor: Sensor::default(),
+    };
+    let plane = render_flat_spot(&spot, seed).expect("valid test spot");
+    plane.pixels.iter().map(|&v| v.min(255) as u8).collect()
+}
+
+/// Spot centre of test frame `i` of a slow Lissajous path inside a `w`x`h` image.
+pub fn path_centre(i: usize, w: usize, h: usize) -> (f64, f64) {
+    let s = i as f64;
+    (
+        w as f64 * (0.5 + 0.25 * (0.21 * s).sin()) + 0.137 * s.cos(),
+        h as f64 * (0.5 + 0.2 * (0.13 * s + 0.4).cos()),
+    )
+}
+
+/// Write `n` gray PNG frames `img0.png ... img{n-1}.png` (natural order differs from text order) and
+/// return their spot centres.
+pub fn write_png_frames(dir: &Path, n: usize, w: usize, h: usize) -> Vec<(f64, f64)> {
+    std::fs::create_dir_all(dir).expect("create frame folder");
+    (0..n)
+        .map(|i| {
+            let (cx, cy) = path_centre(i, w, h);
+            let px = render_gray(w, h, cx, cy, 1000 + i as u64);
+            image::GrayImage::from_raw(w as u32, h as u32, px)
+                .expect("size")
+                .save(dir.join(format!("img{i}.png")))
+                .expect("save png");
+            (cx, cy)
+        })
+        .collect()
+}
+
+/// Write a `times.csv` for the frames in `dir`, one per `1/fps` s.
+pub fn write_times(dir: &Path, n: usize, fps: f64) {
+    let mut s = String::from("file,t_s\n");
+    for i in 0..n {
+        s.push_str(&format!("img{i}.png,{}\n", i as f64 / fps));
+    }
+    std::fs::write(dir.join("times.csv"), s).expect("write times");
+}
+
+/// Whether the ffmpeg program can be used; prints a SKIP line when not, and fails the test instead
+/// when SPOTLEVER_REQUIRE_FFMPEG=1.
+pub fn ffmpeg_or_skip(test: &str) -> bool {
+    if spotlever::source::ffmpeg_available() {
+        return true;
+    }
+    if std::env::var("SPOTLEVER_REQUIRE_FFMPEG").as_deref() == Ok("1") {
+        panic!("{test}: ffmpeg/ffprobe not on PATH but SPOTLEVER_REQUIRE_FFMPEG=1");
+    }
+    eprintln!(
+        "SKIP {test}: ffmpeg not on PATH (set SPOTLEVER_REQUIRE_FFMPEG=1 to make this a failure)"
+    );
+    false
+}
+
+/// Run ffmpeg with `args`, panicking with its stderr on failure (test set-up only).
+pub fn ffmpeg(args: &[&str]) {
+    let out = Command::new("ffmpeg")
+        .args(["-hide_banner", "-loglevel", "error", "-y"])
+        .args(args)
+        .output()
+        .expect("run ffmpeg");
+    assert!(
+        out.status.success(),
+        "ffmpeg {:?} failed: {}",
+        args,
+        String::from_utf8_lossy(&out.stderr)
+    );
+}
+
+/// Encode `dir/img%d.png` at `fps` into `out` with extra encoder arguments.
+pub fn encode_pngs(dir: &Path, fps: u32, extra: &[&str], out: &Path) {
+    let pattern = dir.join("img%d.png");
+    let rate = fps.to_string();
+    let mut args: Vec<&str> = vec!["-framerate", &rate, "-i"];
+    let p = pattern.to_string_lossy().into_owned();
+    let o = out.to_string_lossy().into_owned();
+    args.push(&p);
+    args.extend_from_slice(extra);
+    args.push(&o);
+    ffmpeg(&args);
+}
+
+/// The spot position the project's tracker reports for each plane, in order (fresh tracker per run).
+pub fn track_positions(planes: &[&spotlever::frame::Plane]) -> Vec<(f64, f64)> {
+    let mut t = spotlever::spot::Tracker::new(spotlever::spot::SpotConfig::default());
+    planes
+        .iter()
+        .map(|p| {
+            let fix = t.process(p);
+            let pos = fix.position.expect("test spot is always visible");
+            (pos.x, pos.y)
+        })
+        .collect()
+}
+
+pub fn committed_clip() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/baseline_160x120.mp4")
+}

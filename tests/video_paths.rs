@@ -1,0 +1,367 @@
+//! Video readers on clips made by an external encoder (ffmpeg's libx264): the ffmpeg path on a
+//! default-settings clip with B-frames, the built-in path on the committed Baseline clip, key-frame
+//! thinning, and agreement with the same frames read from PNG.
+
+mod source_support;
+
+use source_support::*;
+use spotlever::frame::{Channel, Frame, Plane};
+use spotlever::source::{open, Delivery, FfmpegSource, OpenOptions, SourceError, VideoDecoder};
+use spotlever::units::Seconds;
+use std::path::Path;
+
+const W: usize = 160;
+const H: usize = 120;
+
+fn frames_of(path: &Path, opts: &OpenOptions) -> (Vec<Frame>, Option<SourceError>) {
+    let mut src = open(path, opts).unwrap_or_else(|e| panic!("open {}: {e}", path.display()));
+    let mut out = Vec::new();
+    while let Some(d) = src.next_delivery() {
+        match d {
+            Ok(Delivery::Frame(f)) => out.push(f),
+            Ok(Delivery::Unreadable { origin, reason, .. }) => panic!("{origin}: {reason}"),
+            Err(e) => return (out, Some(e)),
+        }
+    }
+    (out, None)
+}
+
+fn opts(decoder: VideoDecoder) -> OpenOptions {
+    OpenOptions {
+        decoder,
+        ..OpenOptions::default()
+    }
+}
+
+fn png_plane(dir: &Path, i: usize) -> Plane {
+    let img = image::open(dir.join(format!("img{i}.png"))).expect("png");
+    Plane::from_u8(W, H, img.to_luma8().as_raw())
+}
+
+/// Compare decoded frames with the PNG originals: RMS position difference, and the position error
+/// the codec's pixel error explains.
+///
+/// A centroid `x = Σ w_i x_i / Σ w_i` with independent pixel errors of standard deviation `s` has
+/// `var(x) = s² Σ (x_i - x)² / (Σ w_i)²` (first-order propagation, JCGM 100:2008 eq. 10).
+fn compare(dir: &Path, frames: &[Frame]) -> (f64, f64) {
+    let pngs: Vec<Plane> = frames
+        .iter()
+        .map(|f| png_plane(dir, f.index as usize))
+        .collect();
+    let a = track_positions(&pngs.iter().collect::<Vec<_>>());
+    let b = track_positions(&frames.iter().map(|f| &f.plane).collect::<Vec<_>>());
+    let (mut se, mut sv) = (0.0, 0.0);
+    for ((png, f), (pa, pb)) in pngs.iter().zip(frames).zip(a.iter().zip(&b)) {
+        se += (pa.0 - pb.0).powi(2) + (pa.1 - pb.1).powi(2);
+        // Codec pixel error variance over the whole frame.
+        let d: f64 = png
+            .pixels
+            .iter()
+            .zip(f.plane.pixels.iter())
+            .map(|(&x, &y)| (x as f64 - y as f64).powi(2))
+            .sum::<f64>()
+            / (W * H) as f64;
+        // Second moment and weight of a 3-sigma window of the background-subtracted spot.
+        let (ax, ay) = *pa;
+        let (cx, cy) = (ax.round() as i64, ay.round() as i64);
+        let (mut m2, mut wsum) = (0.0, 0.0);
+        for y in cy - 8..=cy + 8 {
+            for x in cx - 8..=cx + 8 {
+                if x < 0 || y < 0 || x >= W as i64 || y >= H as i64 {
+                    continue;
+                }
+                let v = (png.pixels[(y as usize, x as usize)] as f64 - 40.0).max(0.0);
+                wsum += v;
+                m2 += (x as f64 - ax).powi(2) + (y as f64 - ay).powi(2);
+            }
+        }
+        sv += d * m2 / (wsum * wsum);
+    }
+    let n = frames.len() as f64;
+    ((se / n).sqrt(), (sv / n).sqrt())
+}
+
+fn has_b_frames(clip: &Path) -> bool {
+    let out = std::process::Command::new("ffprobe")
+        .args([
+            "-v",
+            "error",
+            "-select_streams",
+            "v:0",
+            "-show_entries",
+            "frame=pict_type",
+            "-of",
+            "csv=p=0",
+        ])
+        .arg(clip)
+        .output()
+        .expect("ffprobe");
+    String::from_utf8_lossy(&out.stdout)
+        .lines()
+        .any(|l| l.trim() == "B")
+}
+
+#[test]
+fn ffmpeg_path_reads_default_x264_clip_with_b_frames_like_the_pngs() {
+    if !ffmpeg_or_skip("ffmpeg_path_reads_default_x264_clip_with_b_frames_like_the_pngs") {
+        return;
+    }
+    let d = tempfile::tempdir().unwrap();
+    let n = 40;
+    write_png_frames(d.path(), n, W, H);
+    let clip = d.path().join("default.mp4");
+    encode_pngs(
+        d.path(),
+        10,
+        &["-c:v", "libx264", "-pix_fmt", "yuv420p"],
+        &clip,
+    );
+    assert!(
+        has_b_frames(&clip),
+        "libx264 defaults should have produced B-frames"
+    );
+    let (frames, err) = frames_of(&clip, &opts(VideoDecoder::Ffmpeg));
+    assert!(err.is_none(), "{err:?}");
+    assert_eq!(frames.len(), n);
+    for (i, f) in frames.iter().enumerate() {
+        assert_eq!(f.index, i as u64);
+        // 10 fps in a 1/10240 s time base: times are exact multiples of 0.1 s up to float rounding.
+        assert!(
+            (f.t.0 - i as f64 * 0.1).abs() < 1e-9,
+            "frame {i} at {}",
+            f.t.0
+        );
+    }
+    let (rms, codec) = compare(d.path(), &frames);
+    eprintln!("ffmpeg path, default x264: RMS position difference {rms:.4} px; codec loss explains {codec:.4} px");
+    assert!(rms <= 0.1 + codec, "RMS {rms} px > 0.1 + {codec}");
+}
+
+#[test]
+fn builtin_path_reads_committed_baseline_clip_like_the_pngs() {
+    let d = tempfile::tempdir().unwrap();
+    let n = 30;
+    write_png_frames(d.path(), n, W, H);
+    let (frames, err) = frames_of(&committed_clip(), &opts(VideoDecoder::Builtin));
+    assert!(err.is_none(), "{err:?}");
+    assert_eq!(frames.len(), n);
+    for (i, f) in frames.iter().enumerate() {
+        assert_eq!(f.index, i as u64);
+        assert!(
+            (f.t.0 - i as f64 * 0.1).abs() < 1e-9,
+            "frame {i} at {}",
+            f.t.0
+        );
+    }
+    let (rms, codec) = compare(d.path(), &frames);
+    eprintln!("built-in path, Baseline clip: RMS position difference {rms:.4} px; codec loss explains {codec:.4} px");
+    assert!(rms <= 0.1 + codec, "RMS {rms} px > 0.1 + {codec}");
+}
+
+#[test]
+fn builtin_and_ffmpeg_decode_the_baseline_clip_alike() {
+    if !ffmpeg_or_skip("builtin_and_ffmpeg_decode_the_baseline_clip_alike") {
+        return;
+    }
+    let (a, _) = frames_of(&committed_clip(), &opts(VideoDecoder::Builtin));
+    let (b, _) = frames_of(&committed_clip(), &opts(VideoDecoder::Ffmpeg));
+    assert_eq!(a.len(), b.len());
+    // H.264 decoding is bit-exact (ITU-T H.264 §8 specifies the decoded samples exactly); only the
+    // studio-to-full range expansion's rounding may differ, by at most 1 DN.
+    for (fa, fb) in a.iter().zip(&b) {
+        assert_eq!((fa.index, fa.t), (fb.index, fb.t));
+        let worst = fa
+            .plane
+            .pixels
+            .iter()
+            .zip(fb.plane.pixels.iter())
+            .map(|(&x, &y)| (x as i32 - y as i32).abs())
+            .max()
+            .unwrap_or(0);
+        assert!(
+            worst <= 1,
+            "frame {}: decoders differ by {worst} DN",
+            fa.index
+        );
+    }
+}
+
+fn gop_clip(dir: &Path, n: usize, gop: u32) -> std::path::PathBuf {
+    write_png_frames(dir, n, W, H);
+    let clip = dir.join(format!("gop{gop}.mp4"));
+    let g = gop.to_string();
+    encode_pngs(
+        dir,
+        10,
+        &[
+            "-c:v",
+            "libx264",
+            "-pix_fmt",
+            "yuv420p",
+            "-g",
+            &g,
+            "-keyint_min",
+            &g,
+            "-sc_threshold",
+            "0",
+        ],
+        &clip,
+    );
+    clip
+}
+
+#[test]
+fn every_decodes_only_key_frames_and_keeps_the_same_frames() {
+    if !ffmpeg_or_skip("every_decodes_only_key_frames_and_keeps_the_same_frames") {
+        return;
+    }
+    let d = tempfile::tempdir().unwrap();
+    let clip = gop_clip(d.path(), 45, 10);
+    let thin = OpenOptions {
+        every: Some(Seconds(1.0)),
+        ..opts(VideoDecoder::Ffmpeg)
+    };
+    let src = FfmpegSource::open(&clip, &thin).unwrap();
+    assert!(
+        src.key_frames_only(),
+        "one key frame per second allows key-frame decoding"
+    );
+    drop(src);
+    let (kept, err) = frames_of(&clip, &thin);
+    assert!(err.is_none(), "{err:?}");
+    let (all, _) = frames_of(&clip, &opts(VideoDecoder::Ffmpeg));
+    let idx: Vec<u64> = kept.iter().map(|f| f.index).collect();
+    assert_eq!(idx, [0, 10, 20, 30, 40]);
+    for f in &kept {
+        let full = &all[f.index as usize];
+        assert_eq!(f.t, full.t);
+        // Key frames decode without reference to other frames, so the pictures are identical.
+        assert_eq!(f.plane, full.plane, "frame {}", f.index);
+    }
+}
+
+#[test]
+fn every_falls_back_to_full_decode_when_key_frames_are_sparse() {
+    if !ffmpeg_or_skip("every_falls_back_to_full_decode_when_key_frames_are_sparse") {
+        return;
+    }
+    let d = tempfile::tempdir().unwrap();
+    let clip = gop_clip(d.path(), 45, 25);
+    let thin = OpenOptions {
+        every: Some(Seconds(1.0)),
+        ..opts(VideoDecoder::Ffmpeg)
+    };
+    let src = FfmpegSource::open(&clip, &thin).unwrap();
+    assert!(!src.key_frames_only());
+    drop(src);
+    let (kept, _) = frames_of(&clip, &thin);
+    let idx: Vec<u64> = kept.iter().map(|f| f.index).collect();
+    assert_eq!(idx, [0, 10, 20, 30, 40]);
+}
+
+#[test]
+fn variable_frame_rate_times_are_the_presentation_times() {
+    if !ffmpeg_or_skip("variable_frame_rate_times_are_the_presentation_times") {
+        return;
+    }
+    let d = tempfile::tempdir().unwrap();
+    let n = 12;
+    write_png_frames(d.path(), n, W, H);
+    // Input at 20 fps (time base 1/20 s), re-timed to pts = 2i + 3 floor(i/2): gaps of 0.1 and
+    // 0.25 s alternate.
+    let truth: Vec<f64> = (0..n)
+        .map(|i| (2 * i + 3 * (i / 2)) as f64 / 20.0)
+        .collect();
+    let clip = d.path().join("vfr.mkv");
+    ffmpeg(&[
+        "-framerate",
+        "20",
+        "-i",
+        &d.path().join("img%d.png").to_string_lossy(),
+        "-vf",
+        "setpts=2*N+3*floor(N/2)",
+        "-vsync",
+        "passthrough",
+        "-c:v",
+        "libx264",
+        "-pix_fmt",
+        "yuv420p",
+        &clip.to_string_lossy(),
+    ]);
+    let (frames, err) = frames_of(&clip, &opts(VideoDecoder::Ffmpeg));
+    assert!(err.is_none(), "{err:?}");
+    assert_eq!(frames.len(), n);
+    for (f, want) in frames.iter().zip(&truth) {
+        // Matroska stores milliseconds.
+        assert!(
+            (f.t.0 - want).abs() <= 0.0005 + 1e-9,
+            "frame {}: {} vs {want}",
+            f.index,
+            f.t.0
+        );
+    }
+}
+
+#[test]
+fn red_channel_from_video_differs_from_luma() {
+    if !ffmpeg_or_skip("red_channel_from_video_differs_from_luma") {
+        return;
+    }
+    let d = tempfile::tempdir().unwrap();
+    let clip = d.path().join("red.mp4");
+    ffmpeg(&[
+        "-f",
+        "lavfi",
+        "-i",
+        "color=c=0xC80000:size=32x32:rate=5",
+        "-frames:v",
+        "3",
+        "-c:v",
+        "libx264",
+        "-pix_fmt",
+        "yuv420p",
+        &clip.to_string_lossy(),
+    ]);
+    let red = OpenOptions {
+        channel: Channel::Red,
+        ..opts(VideoDecoder::Ffmpeg)
+    };
+    let (r, _) = frames_of(&clip, &red);
+    let (l, _) = frames_of(&clip, &opts(VideoDecoder::Ffmpeg));
+    let (rv, lv) = (
+        r[0].plane.pixels[(16, 16)] as f64,
+        l[0].plane.pixels[(16, 16)] as f64,
+    );
+    // Pure red 200: red channel 200, BT.601 luma 0.299 * 200 = 60 (ITU-R BT.601), within codec loss.
+    assert!((rv - 200.0).abs() <= 4.0, "red {rv}");
+    assert!((lv - 60.0).abs() <= 4.0, "luma {lv}");
+}
+
+/// Rebuilds tests/data/baseline_160x120.mp4 (see tests/data/README.md):
+/// `cargo test --test video_paths -- --ignored regenerate_baseline_clip`.
+#[test]
+#[ignore]
+fn regenerate_baseline_clip() {
+    let d = tempfile::tempdir().unwrap();
+    write_png_frames(d.path(), 30, W, H);
+    encode_pngs(
+        d.path(),
+        10,
+        &[
+            "-c:v",
+            "libx264",
+            "-profile:v",
+            "baseline",
+            "-pix_fmt",
+            "yuv420p",
+            "-crf",
+            "18",
+            "-movflags",
+            "+faststart",
+            "-map_metadata",
+            "-1",
+            "-bitexact",
+        ],
+        &committed_clip(),
+    );
+}
