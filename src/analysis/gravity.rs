@@ -1,0 +1,348 @@
+//! G two ways, with the measurement models the uncertainty propagation runs through.
+//!
+//! - Final deflection: `theta_G` is half the angle between the equilibria of the two mass positions.
+//!   With three or more segments each interleaved triple A-B-A (or B-A-B) gives
+//!   `D = eq_2 - (lambda eq_1 + (1 - lambda) eq_3)`, the middle equilibrium against the outer two
+//!   interpolated linearly to its time, so a linear drift cancels; `theta_G` is the mean of `|D| / 2`,
+//!   its uncertainty propagated from the equilibria's (the triples share segments, so the mean is
+//!   written as one linear combination of the equilibria). Then `kappa = I omega_0^2` and
+//!   [`physics::g_from_deflection`].
+//! - Initial angular acceleration: at each move the torque changes by `2 tau`, so the beam's angular
+//!   acceleration jumps by `alpha = 2 tau / I` ([`physics::initial_acceleration`]). The acceleration
+//!   just after the move comes from a fit of the oscillator (decay and frequency held at the fitted
+//!   values, level and phase free) on the early part of the new segment, extrapolated to the move;
+//!   the acceleration just before from the same fit on the late part of the old segment. Then
+//!   [`physics::g_from_acceleration`]. This uses the inertia but not the torsion constant, and data
+//!   near the moves rather than the settled equilibria.
+
+use super::damped::{fit_fixed_frequency, DampedFit};
+use super::uncertainty::Input;
+use crate::lever::Lever;
+use crate::physics;
+use crate::setup::Setup;
+use crate::units::{Measured, Radians};
+
+/// The deflection from the segments' equilibria.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Deflection {
+    /// `theta_G`, rad (positive).
+    pub theta_g: Measured,
+    /// One estimate of `theta_G` per triple (or the single pair), rad.
+    pub estimates: Vec<f64>,
+    /// Sample standard deviation of `estimates` (`None` with fewer than two).
+    pub scatter: Option<f64>,
+    /// Whether the drift-cancelling triples were used (false: a single pair).
+    pub triples: bool,
+    /// Whether every triple's deflection had the sign expected from alternating mass positions.
+    pub alternating: bool,
+    /// Mean of the equilibria, rad (where the two positions' readings are centred).
+    pub theta_mid: f64,
+}
+
+/// `theta_G` from equilibria `(time, equilibrium)` of successive segments with alternating positions.
+pub fn deflection(eqs: &[(f64, Measured)]) -> Option<Deflection> {
+    let n = eqs.len();
+    if n < 2 {
+        return None;
+    }
+    let theta_mid = eqs.iter().map(|e| e.1.value).sum::<f64>() / n as f64;
+    if n == 2 {
+        let d = (eqs[1].1.value - eqs[0].1.value) / 2.0;
+        let u = eqs[0].1.u.hypot(eqs[1].1.u) / 2.0;
+        return Some(Deflection {
+            theta_g: Measured::new(d.abs(), u),
+            estimates: vec![d.abs()],
+            scatter: None,
+            triples: false,
+            alternating: true,
+            theta_mid,
+        });
+    }
+    let k = n - 2;
+    let mut w = vec![0.0; n];
+    let mut estimates = Vec::with_capacity(k);
+    let mut raw = Vec::with_capacity(k);
+    for j in 0..k {
+        let (t1, t2, t3) = (eqs[j].0, eqs[j + 1].0, eqs[j + 2].0);
+        let lam = (t3 - t2) / (t3 - t1);
+        let d = eqs[j + 1].1.value - (lam * eqs[j].1.value + (1.0 - lam) * eqs[j + 2].1.value);
+        raw.push((d, lam));
+    }
+    let s0 = raw[0].0.signum();
+    let mut alternating = true;
+    for (j, (d, lam)) in raw.iter().enumerate() {
+        let s = if j % 2 == 0 { s0 } else { -s0 };
+        if d * s <= 0.0 {
+            alternating = false;
+        }
+        estimates.push(s * d / 2.0);
+        let c = s / (2.0 * k as f64);
+        w[j + 1] += c;
+        w[j] -= c * lam;
+        w[j + 2] -= c * (1.0 - lam);
+    }
+    let mean = estimates.iter().sum::<f64>() / k as f64;
+    let u = w
+        .iter()
+        .zip(eqs)
+        .map(|(wi, e)| (wi * e.1.u).powi(2))
+        .sum::<f64>()
+        .sqrt();
+    let scatter = (k >= 2).then(|| {
+        (estimates.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (k as f64 - 1.0)).sqrt()
+    });
+    Some(Deflection {
+        theta_g: Measured::new(mean.abs(), u),
+        estimates,
+        scatter,
+        triples: true,
+        alternating,
+        theta_mid,
+    })
+}
+
+/// The acceleration jump at one move.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct MoveAcceleration {
+    /// Move time, s.
+    pub t: f64,
+    /// Acceleration after minus before, rad/s^2 (signed).
+    pub jump: Measured,
+}
+
+/// The acceleration method's result over all moves.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Acceleration {
+    /// Weighted mean of the jumps' magnitudes (signs aligned with alternation), rad/s^2.
+    pub alpha: Measured,
+    pub per_move: Vec<MoveAcceleration>,
+}
+
+/// Acceleration just before/after `t_move` from the samples within `window` s of it.
+fn side(
+    t: &[f64],
+    y: &[f64],
+    t_move: f64,
+    gamma: f64,
+    omega_d: f64,
+) -> Option<(f64, f64, DampedFit)> {
+    let fit = fit_fixed_frequency(t, y, t_move, t_move, gamma, omega_d, false).ok()?;
+    let g = fit.acceleration_gradient(t_move);
+    let mut var = 0.0;
+    for a in 0..6 {
+        for b in 0..6 {
+            var += g[a] * fit.cov[a][b] * g[b];
+        }
+    }
+    Some((fit.acceleration(t_move), var.max(0.0).sqrt(), fit))
+}
+
+/// The jump of angular acceleration at each move, from windows of `window` s either side (kept within
+/// the neighbouring segments `bounds[i]..bounds[i+1]`, and `guard` s away from the move).
+pub fn acceleration(
+    t: &[f64],
+    y: &[f64],
+    moves: &[f64],
+    bounds: &[(f64, f64)],
+    window: f64,
+    guard: f64,
+    gamma: f64,
+    omega_d: f64,
+) -> Option<Acceleration> {
+    let mut per_move = Vec::new();
+    for (i, &tm) in moves.iter().enumerate() {
+        let (before_lo, after_hi) = match (bounds.get(i), bounds.get(i + 1)) {
+            (Some(b), Some(a)) => ((tm - window).max(b.0), (tm + window).min(a.1)),
+            _ => continue,
+        };
+        let pick = |lo: f64, hi: f64| -> (Vec<f64>, Vec<f64>) {
+            t.iter()
+                .zip(y)
+                .filter(|(tt, _)| **tt >= lo && **tt < hi)
+                .map(|(a, b)| (*a, *b))
+                .unzip()
+        };
+        let (tb, yb) = pick(before_lo, tm - guard);
+        let (ta, ya) = pick(tm + guard, after_hi);
+        if tb.len() < 8 || ta.len() < 8 {
+            continue;
+        }
+        let (Some(b), Some(a)) = (
+            side(&tb, &yb, tm, gamma, omega_d),
+            side(&ta, &ya, tm, gamma, omega_d),
+        ) else {
+            continue;
+        };
+        per_move.push(MoveAcceleration {
+            t: tm,
+            jump: Measured::new(a.0 - b.0, a.1.hypot(b.1)),
+        });
+    }
+    if per_move.is_empty() {
+        return None;
+    }
+    let s0 = per_move[0].jump.value.signum();
+    let (mut sw, mut swx) = (0.0, 0.0);
+    for (j, m) in per_move.iter().enumerate() {
+        let s = if j % 2 == 0 { s0 } else { -s0 };
+        let wt = if m.jump.u > 0.0 {
+            1.0 / (m.jump.u * m.jump.u)
+        } else {
+            1e300
+        };
+        sw += wt;
+        swx += wt * s * m.jump.value;
+    }
+    let mean = swx / sw;
+    let u = if sw >= 1e300 { 0.0 } else { (1.0 / sw).sqrt() };
+    Some(Acceleration {
+        alpha: Measured::new(mean.abs(), u),
+        per_move,
+    })
+}
+
+/// Index of each input in [`deflection_inputs`] / [`acceleration_inputs`] (shared beam and source part).
+const BEAM_INPUTS: usize = 8;
+
+fn beam_inputs(setup: &Setup) -> Vec<Input> {
+    let b = &setup.beam;
+    let s = &setup.sources;
+    vec![
+        Input::new("small_mass m", b.small_mass.value, b.small_mass.u, "kg"),
+        Input::new(
+            "small_radius r",
+            b.small_radius.value,
+            b.small_radius.u,
+            "m",
+        ),
+        Input::new("arm R", b.arm.value, b.arm.u, "m"),
+        Input::new("rod_mass", b.rod_mass.value, b.rod_mass.u, "kg"),
+        Input::new("rod_length", b.rod_length.value, b.rod_length.u, "m"),
+        Input::new(
+            "extra_inertia",
+            b.extra_inertia.value,
+            b.extra_inertia.u,
+            "kg m^2",
+        ),
+        Input::new("large_mass M", s.large_mass.value, s.large_mass.u, "kg"),
+        Input::new("separation d", s.separation.value, s.separation.u, "m"),
+    ]
+}
+
+fn inertia_of(x: &[f64]) -> f64 {
+    physics::beam_inertia(x[3], x[4], x[0], x[1], x[2], x[5])
+}
+
+/// Inputs of the deflection model: beam and sources, the lever (`L`, `x0`), the half scale difference
+/// `S` between the two positions' equilibrium readings, and the natural period `T0`.
+pub fn deflection_inputs(setup: &Setup, half_scale: Measured, period: Measured) -> Vec<Input> {
+    let mut v = beam_inputs(setup);
+    let l = &setup.lever;
+    v.push(Input::new(
+        "screen_distance L",
+        l.screen_distance.value,
+        l.screen_distance.u,
+        "m",
+    ));
+    v.push(Input::new("zero x0", l.zero.value, l.zero.u, "m"));
+    v.push(Input::new(
+        "half scale difference S",
+        half_scale.value,
+        half_scale.u,
+        "m",
+    ));
+    v.push(Input::new("period T0", period.value, period.u, "s"));
+    v
+}
+
+/// The deflection model: G from [`deflection_inputs`]; `x_mid` is the scale reading midway between the
+/// two positions' equilibria (held fixed).
+pub fn g_deflection_model(setup: &Setup, x_mid: f64) -> impl Fn(&[f64]) -> f64 {
+    let shape = setup.lever.scale;
+    move |x: &[f64]| {
+        let k = BEAM_INPUTS;
+        let lever = Lever {
+            distance_m: x[k],
+            zero_m: x[k + 1],
+            shape,
+        };
+        let s = x[k + 2];
+        let theta = (lever.angle(x_mid + s).0 - lever.angle(x_mid - s).0) / 2.0;
+        let inertia = inertia_of(x);
+        let omega0 = 2.0 * std::f64::consts::PI / x[k + 3];
+        let kappa = physics::torsion_constant(inertia, omega0);
+        physics::g_from_deflection(kappa, theta, x[0], x[6], x[2], x[7])
+    }
+}
+
+/// Inputs of the acceleration model: beam and sources, `L`, and the acceleration jump `alpha` measured
+/// in angle units of the nominal lever.
+pub fn acceleration_inputs(setup: &Setup, alpha: Measured) -> Vec<Input> {
+    let mut v = beam_inputs(setup);
+    let l = &setup.lever;
+    v.push(Input::new(
+        "screen_distance L",
+        l.screen_distance.value,
+        l.screen_distance.u,
+        "m",
+    ));
+    v.push(Input::new(
+        "acceleration jump alpha",
+        alpha.value,
+        alpha.u,
+        "rad s^-2",
+    ));
+    v
+}
+
+/// The acceleration model: G from [`acceleration_inputs`]. The angle scale goes as `1 / L` (the small-
+/// angle lever), so an acceleration read with the nominal `L_nom` is `alpha L_nom / L`.
+pub fn g_acceleration_model(setup: &Setup) -> impl Fn(&[f64]) -> f64 {
+    let l_nom = setup.lever.screen_distance.value;
+    move |x: &[f64]| {
+        let k = BEAM_INPUTS;
+        let alpha = x[k + 1] * l_nom / x[k];
+        physics::g_from_acceleration(alpha, x[0], x[6], x[2], x[7], inertia_of(x))
+    }
+}
+
+/// Half the scale difference between the readings of `theta_mid +- theta_g` on `lever`, and its
+/// uncertainty from `theta_g`'s.
+pub fn half_scale(lever: &Lever, theta_mid: f64, theta_g: Measured) -> Measured {
+    let hi = lever.reading(Radians(theta_mid + theta_g.value));
+    let lo = lever.reading(Radians(theta_mid - theta_g.value));
+    let s = (hi - lo) / 2.0;
+    // d S / d theta_g = (1/2)(dx/dtheta at hi + at lo).
+    let dxdt = 0.5 * (1.0 / lever.sensitivity(hi) + 1.0 / lever.sensitivity(lo));
+    Measured::new(s, theta_g.u * dxdt)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn triples_cancel_a_linear_drift() {
+        // Equilibria alternating +-1e-4 about a line 1e-3 + 2e-8 t.
+        let eqs: Vec<(f64, Measured)> = (0..5)
+            .map(|k| {
+                let t = 100.0 + 1000.0 * k as f64;
+                let s = if k % 2 == 0 { 1.0 } else { -1.0 };
+                (t, Measured::new(1e-3 + 2e-8 * t + s * 1e-4, 1e-6))
+            })
+            .collect();
+        let d = deflection(&eqs).unwrap();
+        assert!((d.theta_g.value - 1e-4).abs() < 1e-15, "{:?}", d);
+        assert!(d.alternating && d.triples);
+        // Three triples over five equilibria: weights (1/2 of +-1, -1/2, -1/2)/3 summed per segment.
+        let w: [f64; 5] = [
+            -1.0 / 12.0,
+            1.0 / 6.0 + 1.0 / 12.0,
+            -1.0 / 4.0 - 1.0 / 4.0 + 1.0 / 6.0,
+            1.0 / 6.0 + 1.0 / 12.0,
+            -1.0 / 12.0,
+        ];
+        let u = w.iter().map(|x| x * x).sum::<f64>().sqrt() * 1e-6;
+        assert!((d.theta_g.u / u - 1.0).abs() < 1e-9, "{} {u}", d.theta_g.u);
+    }
+}

@@ -1,0 +1,237 @@
+//! The oscillation's frequency from the spectrum, as the starting guess for the damped fits.
+//!
+//! Steps: resample evenly (linear interpolation at the median sample spacing; gaps are bridged here
+//! only, never in the fits), remove a straight line from each stretch between `breaks` (so the steps of
+//! the equilibrium at mass moves do not leak into the spectrum), optionally take the first difference
+//! (which favours the oscillation over the steps when the breaks are not known yet), apply a Hann
+//! window, zero-pad to at least `pad` times the length (next power of two), take the magnitude of the
+//! FFT (rustfft) and interpolate the highest peak with a parabola through the logarithms of the three
+//! bins around it (exact for a Gaussian peak; a common practice for Hann-windowed spectra, no source).
+
+use rustfft::{num_complex::Complex, FftPlanner};
+
+/// How to prepare the series before the FFT.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SpectrumOptions {
+    /// Times at which the series' equilibrium may jump (mass moves); a line is removed from each stretch.
+    pub breaks: Vec<f64>,
+    /// Take the first difference before windowing.
+    pub differentiate: bool,
+    /// Zero padding: the FFT length is the next power of two at or above `pad` x the series length.
+    pub pad: usize,
+}
+
+impl Default for SpectrumOptions {
+    fn default() -> Self {
+        Self {
+            breaks: Vec::new(),
+            differentiate: false,
+            pad: 8,
+        }
+    }
+}
+
+/// An amplitude spectrum and its highest peak.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Spectrum {
+    /// Bin frequencies, Hz (from 0 to Nyquist).
+    pub freq_hz: Vec<f64>,
+    /// |FFT| at each bin (arbitrary units).
+    pub magnitude: Vec<f64>,
+    /// Interpolated peak frequency, Hz.
+    pub peak_hz: f64,
+    /// Spacing of the resampled series, s.
+    pub dt: f64,
+}
+
+impl Spectrum {
+    /// Period of the peak, s.
+    pub fn period(&self) -> f64 {
+        1.0 / self.peak_hz
+    }
+}
+
+/// Why no spectrum could be taken.
+#[derive(Debug, thiserror::Error, PartialEq)]
+pub enum SpectrumError {
+    #[error("only {0} samples: at least 16 are needed for a spectrum")]
+    TooShort(usize),
+    #[error("sample times do not increase at sample {0}")]
+    Unordered(usize),
+    #[error("the spectrum has no peak above the lowest bins: the trace shows no oscillation")]
+    NoPeak,
+}
+
+/// Evenly resample `(t, y)` at the median spacing by linear interpolation. Returns `(t0, dt, values)`.
+pub fn resample(t: &[f64], y: &[f64]) -> Result<(f64, f64, Vec<f64>), SpectrumError> {
+    let n = t.len().min(y.len());
+    if n < 16 {
+        return Err(SpectrumError::TooShort(n));
+    }
+    let mut d: Vec<f64> = Vec::with_capacity(n - 1);
+    for k in 1..n {
+        let s = t[k] - t[k - 1];
+        if s.is_nan() || s <= 0.0 {
+            return Err(SpectrumError::Unordered(k));
+        }
+        d.push(s);
+    }
+    d.sort_by(f64::total_cmp);
+    let dt = d[d.len() / 2];
+    let m = ((t[n - 1] - t[0]) / dt).floor() as usize + 1;
+    let mut out = Vec::with_capacity(m);
+    let mut j = 0;
+    for k in 0..m {
+        let tk = t[0] + k as f64 * dt;
+        while j + 2 < n && t[j + 1] < tk {
+            j += 1;
+        }
+        let w = ((tk - t[j]) / (t[j + 1] - t[j])).clamp(0.0, 1.0);
+        out.push(y[j] + w * (y[j + 1] - y[j]));
+    }
+    Ok((t[0], dt, out))
+}
+
+/// Remove a least-squares straight line from `y[lo..hi]` (uniform spacing).
+fn detrend(y: &mut [f64]) {
+    let n = y.len();
+    if n < 2 {
+        if let Some(v) = y.first_mut() {
+            *v = 0.0;
+        }
+        return;
+    }
+    let xm = (n as f64 - 1.0) / 2.0;
+    let ym = y.iter().sum::<f64>() / n as f64;
+    let (mut sxy, mut sxx) = (0.0, 0.0);
+    for (k, v) in y.iter().enumerate() {
+        let x = k as f64 - xm;
+        sxy += x * (v - ym);
+        sxx += x * x;
+    }
+    let slope = sxy / sxx;
+    for (k, v) in y.iter_mut().enumerate() {
+        *v -= ym + slope * (k as f64 - xm);
+    }
+}
+
+/// The amplitude spectrum of `(t, y)` prepared as `opts` says, with its interpolated peak.
+pub fn spectrum(t: &[f64], y: &[f64], opts: &SpectrumOptions) -> Result<Spectrum, SpectrumError> {
+    let (t0, dt, mut v) = resample(t, y)?;
+    // Per-stretch detrending.
+    let mut cuts: Vec<usize> = opts
+        .breaks
+        .iter()
+        .map(|b| ((b - t0) / dt).round())
+        .filter(|k| *k > 0.0 && *k < v.len() as f64)
+        .map(|k| k as usize)
+        .collect();
+    cuts.sort_unstable();
+    cuts.dedup();
+    let mut lo = 0;
+    for &c in cuts.iter().chain(std::iter::once(&v.len())) {
+        detrend(&mut v[lo..c]);
+        lo = c;
+    }
+    if opts.differentiate {
+        let d: Vec<f64> = v.windows(2).map(|w| w[1] - w[0]).collect();
+        v = d;
+        // Zero the differences across the breaks, where the steps would sit.
+        for &c in &cuts {
+            if c >= 1 && c - 1 < v.len() {
+                v[c - 1] = 0.0;
+            }
+        }
+    }
+    let n = v.len();
+    if n < 16 {
+        return Err(SpectrumError::TooShort(n));
+    }
+    let nfft = (opts.pad.max(1) * n).next_power_of_two();
+    let mut buf: Vec<Complex<f64>> = vec![Complex::new(0.0, 0.0); nfft];
+    for (k, x) in v.iter().enumerate() {
+        // Hann window.
+        let w = 0.5 - 0.5 * (2.0 * std::f64::consts::PI * k as f64 / (n as f64 - 1.0)).cos();
+        buf[k].re = x * w;
+    }
+    FftPlanner::new().plan_fft_forward(nfft).process(&mut buf);
+    let half = nfft / 2 + 1;
+    let df = 1.0 / (nfft as f64 * dt);
+    let freq_hz: Vec<f64> = (0..half).map(|k| k as f64 * df).collect();
+    let magnitude: Vec<f64> = buf[..half].iter().map(|c| c.norm()).collect();
+    // Skip the bins below 1.5 cycles per record (the window's leakage of what detrending left).
+    let kmin = ((1.5 / (n as f64 * dt)) / df).ceil() as usize;
+    let kmin = kmin.max(1);
+    if kmin + 2 >= half {
+        return Err(SpectrumError::NoPeak);
+    }
+    let (kbest, _) =
+        magnitude[kmin..half - 1]
+            .iter()
+            .enumerate()
+            .fold((kmin, f64::MIN), |(bk, bv), (i, &m)| {
+                if m > bv {
+                    (kmin + i, m)
+                } else {
+                    (bk, bv)
+                }
+            });
+    if kbest == kmin || !(magnitude[kbest] > 0.0) {
+        return Err(SpectrumError::NoPeak);
+    }
+    let (a, b, c) = (
+        magnitude[kbest - 1].max(f64::MIN_POSITIVE).ln(),
+        magnitude[kbest].ln(),
+        magnitude[kbest + 1].max(f64::MIN_POSITIVE).ln(),
+    );
+    let denom = a - 2.0 * b + c;
+    let delta = if denom < 0.0 {
+        (0.5 * (a - c) / denom).clamp(-0.5, 0.5)
+    } else {
+        0.0
+    };
+    Ok(Spectrum {
+        freq_hz,
+        magnitude,
+        peak_hz: (kbest as f64 + delta) * df,
+        dt,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn finds_a_sine_through_a_step() {
+        let t: Vec<f64> = (0..4000).map(|k| k as f64).collect();
+        let f0 = 1.0 / 437.0;
+        let y: Vec<f64> = t
+            .iter()
+            .map(|&t| {
+                (2.0 * std::f64::consts::PI * f0 * t).sin() * 1e-4
+                    + if t > 2000.0 { 3e-4 } else { 0.0 }
+            })
+            .collect();
+        let s = spectrum(
+            &t,
+            &y,
+            &SpectrumOptions {
+                breaks: vec![2000.0],
+                ..Default::default()
+            },
+        )
+        .unwrap();
+        assert!((s.peak_hz / f0 - 1.0).abs() < 2e-3, "{}", s.period());
+        let s = spectrum(
+            &t,
+            &y,
+            &SpectrumOptions {
+                differentiate: true,
+                ..Default::default()
+            },
+        )
+        .unwrap();
+        assert!((s.peak_hz / f0 - 1.0).abs() < 5e-3, "{}", s.period());
+    }
+}

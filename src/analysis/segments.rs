@@ -1,0 +1,275 @@
+//! Segments between mass moves: read from an events file (`t_s,label`, each row starts a segment) or
+//! found in the trace.
+//!
+//! Finding the moves uses the equation of motion: with the torque constant between moves,
+//! `theta_eq(t) = theta + (theta'' + 2 gamma theta') / omega_0^2` is constant, so it is a step function
+//! over the run whose steps are the moves. The derivatives come from a local quadratic fit over a fifth
+//! of a period around each point of a grid (a hundredth of a period apart, using only the samples
+//! present, so gaps are not bridged); the step detector is the difference between the means of
+//! `theta_eq` over one period after and one period before each grid point, whose extremes (above eight
+//! times the detector's robust noise and above a quarter of the largest step) are the moves. A full
+//! period in each window cancels the ripple the quadratic's bias leaves at the oscillation frequency.
+//! Moves closer than one period to the ends of the trace, or to each other, are not found.
+
+use std::path::{Path, PathBuf};
+
+/// A row of an events file: a segment starts at `t` (s).
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct Event {
+    pub t: f64,
+    pub label: String,
+}
+
+/// Problems reading an events file.
+#[derive(Debug, thiserror::Error)]
+pub enum EventsError {
+    #[error("{path}: {source}")]
+    Io {
+        path: PathBuf,
+        #[source]
+        source: std::io::Error,
+    },
+    #[error("{path}, line {line}: {message}")]
+    Parse {
+        path: PathBuf,
+        line: usize,
+        message: String,
+    },
+}
+
+/// Read `t_s,label` rows (a header line `t_s,label` first; `#` lines and blank lines skipped). Times
+/// must increase.
+pub fn read_events(path: &Path) -> Result<Vec<Event>, EventsError> {
+    let text = std::fs::read_to_string(path).map_err(|source| EventsError::Io {
+        path: path.to_path_buf(),
+        source,
+    })?;
+    parse_events(&text, path)
+}
+
+/// Parse events text; `path` is only used in messages.
+pub fn parse_events(text: &str, path: &Path) -> Result<Vec<Event>, EventsError> {
+    let err = |line: usize, message: String| EventsError::Parse {
+        path: path.to_path_buf(),
+        line,
+        message,
+    };
+    let mut out: Vec<Event> = Vec::new();
+    let mut header_seen = false;
+    for (i, raw) in text.lines().enumerate() {
+        let line_no = i + 1;
+        let l = raw.trim();
+        if l.is_empty() || l.starts_with('#') {
+            continue;
+        }
+        let cells: Vec<&str> = l.splitn(2, ',').map(str::trim).collect();
+        if !header_seen {
+            if cells.first() != Some(&"t_s") {
+                return Err(err(
+                    line_no,
+                    format!("expected the header 't_s,label', found {l:?}"),
+                ));
+            }
+            header_seen = true;
+            continue;
+        }
+        let t: f64 = cells[0]
+            .parse()
+            .ok()
+            .filter(|v: &f64| v.is_finite())
+            .ok_or_else(|| {
+                err(
+                    line_no,
+                    format!(
+                        "column 't_s': {:?} is not a finite number of seconds",
+                        cells[0]
+                    ),
+                )
+            })?;
+        if let Some(prev) = out.last() {
+            if t <= prev.t {
+                return Err(err(
+                    line_no,
+                    format!(
+                        "time {t} s is not after the previous event ({} s); list events in time order",
+                        prev.t
+                    ),
+                ));
+            }
+        }
+        out.push(Event {
+            t,
+            label: cells.get(1).copied().unwrap_or("").to_string(),
+        });
+    }
+    if !header_seen {
+        return Err(err(
+            1,
+            "empty file: expected a header line 't_s,label'".into(),
+        ));
+    }
+    Ok(out)
+}
+
+/// The step detector's output, kept for the report.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Detection {
+    /// Times of the moves found, s.
+    pub moves: Vec<f64>,
+    /// Detector grid times, s.
+    pub grid_t: Vec<f64>,
+    /// Detector value (after-minus-before mean equilibrium), rad.
+    pub step: Vec<f64>,
+    /// Robust noise of the detector, rad.
+    pub noise: f64,
+}
+
+/// Local quadratic fit of the samples within `h` of `tc` (indices from `lo`, advanced by the caller).
+/// Returns (value, first derivative, second derivative) at `tc`.
+fn local_quadratic(t: &[f64], y: &[f64], tc: f64, h: f64, lo: usize) -> Option<(f64, f64, f64)> {
+    let mut m = nalgebra::Matrix3::<f64>::zeros();
+    let mut r = nalgebra::Vector3::<f64>::zeros();
+    let mut count = 0;
+    for k in lo..t.len() {
+        let d = t[k] - tc;
+        if d > h {
+            break;
+        }
+        if d < -h {
+            continue;
+        }
+        let v = nalgebra::Vector3::new(1.0, d / h, (d / h) * (d / h));
+        m += v * v.transpose();
+        r += v * y[k];
+        count += 1;
+    }
+    if count < 5 {
+        return None;
+    }
+    let c = m.try_inverse()? * r;
+    Some((c[0], c[1] / h, 2.0 * c[2] / (h * h)))
+}
+
+/// Find the mass moves in `(t, y)` for an oscillation of natural period `period` (s) and decay rate
+/// `gamma` (1/s).
+pub fn detect_moves(t: &[f64], y: &[f64], period: f64, gamma: f64) -> Detection {
+    let empty = Detection {
+        moves: Vec::new(),
+        grid_t: Vec::new(),
+        step: Vec::new(),
+        noise: 0.0,
+    };
+    let n = t.len().min(y.len());
+    if n < 10 || !(period > 0.0) {
+        return empty;
+    }
+    let w0 = 2.0 * std::f64::consts::PI / period;
+    let h = period / 10.0;
+    let dg = period / 100.0;
+    // Instantaneous equilibrium on a grid.
+    let (ta, tb) = (t[0], t[n - 1]);
+    let m = ((tb - ta) / dg).floor() as usize + 1;
+    let mut eq: Vec<Option<f64>> = Vec::with_capacity(m);
+    let mut lo = 0;
+    for k in 0..m {
+        let tc = ta + k as f64 * dg;
+        while lo < n && t[lo] < tc - h {
+            lo += 1;
+        }
+        eq.push(
+            local_quadratic(t, y, tc, h, lo)
+                .map(|(v, d1, d2)| v + (d2 + 2.0 * gamma * d1) / (w0 * w0)),
+        );
+    }
+    // Prefix sums over present grid points for window means.
+    let mut cs = vec![0.0; m + 1];
+    let mut cc = vec![0usize; m + 1];
+    for k in 0..m {
+        cs[k + 1] = cs[k] + eq[k].unwrap_or(0.0);
+        cc[k + 1] = cc[k] + usize::from(eq[k].is_some());
+    }
+    let wn = 100usize; // one period of grid points
+    let mut grid_t = Vec::new();
+    let mut step = Vec::new();
+    for k in wn..m.saturating_sub(wn) {
+        let (nb, na) = (cc[k] - cc[k - wn], cc[k + wn] - cc[k]);
+        if nb < wn / 2 || na < wn / 2 {
+            continue;
+        }
+        let before = (cs[k] - cs[k - wn]) / nb as f64;
+        let after = (cs[k + wn] - cs[k]) / na as f64;
+        grid_t.push(ta + k as f64 * dg);
+        step.push(after - before);
+    }
+    if step.is_empty() {
+        return empty;
+    }
+    let mut absd: Vec<f64> = step.iter().map(|v| v.abs()).collect();
+    absd.sort_by(f64::total_cmp);
+    let noise = 1.4826 * absd[absd.len() / 2];
+    let largest = absd[absd.len() - 1];
+    let threshold = (8.0 * noise).max(0.25 * largest);
+    let mut moves = Vec::new();
+    let mut k = 0;
+    while k < step.len() {
+        if step[k].abs() <= threshold {
+            k += 1;
+            continue;
+        }
+        // The excursion above threshold: its extreme is the move.
+        let start = k;
+        while k < step.len()
+            && step[k].abs() > threshold
+            && step[k].signum() == step[start].signum()
+        {
+            k += 1;
+        }
+        let (kb, _) = (start..k).fold((start, 0.0), |(bk, bv), j| {
+            if step[j].abs() > bv {
+                (j, step[j].abs())
+            } else {
+                (bk, bv)
+            }
+        });
+        let mut tm = grid_t[kb];
+        if kb > 0 && kb + 1 < step.len() {
+            let (a, b, c) = (step[kb - 1].abs(), step[kb].abs(), step[kb + 1].abs());
+            let den = a - 2.0 * b + c;
+            if den < 0.0 {
+                tm += (0.5 * (a - c) / den).clamp(-0.5, 0.5) * dg;
+            }
+        }
+        if moves.last().is_none_or(|&p: &f64| tm - p >= period) {
+            moves.push(tm);
+        }
+    }
+    Detection {
+        moves,
+        grid_t,
+        step,
+        noise,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn events_file_errors_name_the_line() {
+        let p = Path::new("ev.csv");
+        let ok = parse_events("t_s,label\n# comment\n0,A\n1200.5,B\n", p).unwrap();
+        assert_eq!(ok.len(), 2);
+        assert_eq!(ok[1].label, "B");
+        let e = parse_events("t_s,label\n0,A\nsoon,B\n", p)
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("line 3") && e.contains("soon"), "{e}");
+        let e = parse_events("t_s,label\n10,A\n5,B\n", p)
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("line 3") && e.contains("time order"), "{e}");
+        let e = parse_events("time,label\n", p).unwrap_err().to_string();
+        assert!(e.contains("line 1"), "{e}");
+    }
+}
