@@ -5,6 +5,7 @@
 //! Usage: `reference_probe REQUEST.json ANSWER.json`. Operations: see [`run`].
 
 use serde_json::{json, Value};
+use spotlever::analysis::{damped, period};
 use std::process::ExitCode;
 
 type Failure = Box<dyn std::error::Error>;
@@ -29,7 +30,35 @@ fn run(req: &Value) -> Result<Value, Failure> {
         .and_then(Value::as_str)
         .ok_or("request has no string 'op'")?;
     match op {
-        "echo" => Ok(json!({ "t": numbers(req, "t")? })),
+        // The spectrum's interpolated peak: {"t": [..], "y": [..], "pad": 8} -> {"peak_hz": ..}.
+        "spectrum" => {
+            let opts = period::SpectrumOptions {
+                pad: req.get("pad").and_then(Value::as_u64).unwrap_or(8) as usize,
+                ..Default::default()
+            };
+            let s = period::spectrum(&numbers(req, "t")?, &numbers(req, "y")?, &opts)?;
+            Ok(json!({ "peak_hz": s.peak_hz }))
+        }
+        // The damped-sine fit without drift, started from the spectrum's peak, over the whole series:
+        // {"t": [..], "y": [..]} -> {"equilibrium", "gamma", "omega", their "u_*"}.
+        "damped_fit" => {
+            let (t, y) = (numbers(req, "t")?, numbers(req, "y")?);
+            let (first, last) = match (t.first(), t.last()) {
+                (Some(a), Some(b)) => (*a, *b),
+                _ => return Err("empty series".into()),
+            };
+            let s = period::spectrum(&t, &y, &period::SpectrumOptions::default())?;
+            let omega_guess = 2.0 * std::f64::consts::PI * s.peak_hz;
+            let f = damped::fit_damped(&t, &y, first, 0.5 * (first + last), omega_guess, false)?;
+            Ok(json!({
+                "equilibrium": f.params[damped::X_EQ],
+                "gamma": f.params[damped::GAMMA],
+                "omega": f.params[damped::OMEGA],
+                "u_equilibrium": f.u(damped::X_EQ),
+                "u_gamma": f.u(damped::GAMMA),
+                "u_omega": f.u(damped::OMEGA),
+            }))
+        }
         other => Err(format!("operation '{other}' is not available in this build").into()),
     }
 }
