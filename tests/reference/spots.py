@@ -10,6 +10,7 @@ References:
 
 import math
 import os
+import warnings
 
 import cv2
 import numpy as np
@@ -57,9 +58,14 @@ def render_set(folder, sigma, amplitude, noise, ruled, h_mm_to_px, seed):
     return truth, bg
 
 
-def scipy_centroid(img, sigma):
+def brightest(img, sigma):
+    """Row and column of the brightest pixel of the frame smoothed at the spot's width."""
     sm = ndimage.gaussian_filter(img.astype(np.float64), sigma)
-    py, px = np.unravel_index(np.argmax(sm), sm.shape)
+    return np.unravel_index(np.argmax(sm), sm.shape)
+
+
+def scipy_centroid(img, sigma):
+    py, px = brightest(img, sigma)
     w = int(math.ceil(4 * sigma))
     r0, c0 = max(py - w, 0), max(px - w, 0)
     region = img[r0 : py + w + 1, c0 : px + w + 1].astype(np.float64)
@@ -70,11 +76,18 @@ def scipy_centroid(img, sigma):
 
 
 def trackpy_centroid(tp, img, sigma):
+    """trackpy.locate on a square of side 2 max(40, 8 sigma) px around the brightest smoothed pixel (the
+    whole frame gives the same answer here, ten times slower); percentile=99.9 keeps only the strongest
+    local maxima as candidates, topn=1 the brightest feature."""
+    py, px = brightest(img, sigma)
+    half = max(40, int(8 * sigma))
+    r0, c0 = max(py - half, 0), max(px - half, 0)
+    crop = img[r0 : py + half, c0 : px + half]
     diameter = 2 * int(math.ceil(2.5 * sigma)) + 1
-    f = tp.locate(img, diameter, topn=1)
+    f = tp.locate(crop, diameter, topn=1, percentile=99.9)
     if len(f) == 0:
         return math.nan, math.nan
-    return float(f["x"].iloc[0]), float(f["y"].iloc[0])
+    return c0 + float(f["x"].iloc[0]), r0 + float(f["y"].iloc[0])
 
 
 def run(bin_path, work, h_mm_to_px, calib_file, table):
@@ -84,6 +97,8 @@ def run(bin_path, work, h_mm_to_px, calib_file, table):
         import trackpy as tp
 
         tp.quiet()
+        # a crop without a local maximum is reported as a lost frame (NaN), not as a warning per frame
+        warnings.filterwarnings("ignore", message="Image contains no local maxima")
     except Exception as e:  # trackpy is optional: it is reported, not silently dropped
         print(f"SKIP trackpy comparisons: trackpy is not importable ({e})", flush=True)
         tp = None
