@@ -320,8 +320,8 @@ pub fn fit_damped(
     let w_guess = omega_guess * sc.span;
     // Starting point: best of a grid in (w, g), the rest solved linearly.
     let mut best: Option<(f64, [f64; 6])> = None;
-    for kw in -12..=12 {
-        let w = w_guess * (1.0 + 0.004 * kw as f64);
+    for kw in -24..=24 {
+        let w = w_guess * (1.0 + 0.005 * kw as f64);
         for g in [0.0, 0.1, 0.3, 0.7, 1.5, 3.0] {
             if let Some((c, rss, _)) = linear(&sc, g, w, drift) {
                 if best.as_ref().is_none_or(|(r, _)| rss < *r) {

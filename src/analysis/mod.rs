@@ -230,6 +230,175 @@ fn weighted_mean(v: &[Measured]) -> Option<(Measured, Option<f64>)> {
     Some((Measured::new(mean, u), birge))
 }
 
+/// One segment while being fitted.
+struct Seg {
+    idx: (usize, usize),
+    start: f64,
+    end: f64,
+    long: bool,
+    fit: Option<DampedFit>,
+    note: Option<String>,
+}
+
+/// Segment fits and the period and damping they share.
+struct Fitted {
+    bounds: Vec<(f64, f64)>,
+    segs: Vec<Seg>,
+    omega0: Measured,
+    birge: Option<f64>,
+    gamma: Measured,
+    gamma_v: f64,
+    omega_d: f64,
+}
+
+/// Fit every segment between `moves` (full fits for the long ones, then the short ones with the
+/// combined period and damping), leaving `guard` s out either side of each move.
+fn fit_segments(
+    t: &[f64],
+    y: &[f64],
+    moves: &[f64],
+    guard: f64,
+    t_fft: f64,
+    opts: &AnalysisOptions,
+    warnings: &mut Vec<String>,
+) -> Result<Fitted, AnalysisError> {
+    let n = t.len();
+    let mut bounds: Vec<(f64, f64)> = Vec::with_capacity(moves.len() + 1);
+    let mut lo = t[0];
+    for &m in moves {
+        bounds.push((lo, m));
+        lo = m;
+    }
+    bounds.push((lo, t[n - 1]));
+    if bounds.len() < 2 {
+        return Err(AnalysisError::OneSegment);
+    }
+    // 3. Per-segment fits.
+    let mut segs: Vec<Seg> = Vec::new();
+    for (k, &(s, e)) in bounds.iter().enumerate() {
+        let lo_t = if k > 0 { s + guard } else { s };
+        let hi_t = if k + 1 < bounds.len() {
+            e - guard
+        } else {
+            e + 1.0
+        };
+        let a = t.partition_point(|&v| v < lo_t);
+        let b = t.partition_point(|&v| v < hi_t);
+        let length = e - s;
+        let long = length >= opts.min_periods * t_fft && b - a >= 16;
+        let mut seg = Seg {
+            idx: (a, b),
+            start: s,
+            end: e,
+            long,
+            fit: None,
+            note: None,
+        };
+        if !long {
+            let msg = format!(
+                "segment {} ({s:.1} s to {e:.1} s) lasts {:.2} periods (< {}): left out of the period; its equilibrium is fitted with the other segments' period and damping",
+                k + 1,
+                length / t_fft,
+                opts.min_periods
+            );
+            warnings.push(msg.clone());
+            seg.note = Some(msg);
+        } else {
+            let (ts, ys) = (&t[a..b], &y[a..b]);
+            let t_mid = 0.5 * (ts[0] + ts[ts.len() - 1]);
+            match fit_damped(ts, ys, s, t_mid, 2.0 * PI / t_fft, opts.fit_drift) {
+                Ok(f) => {
+                    let amp = f.amplitude();
+                    if amp > 10.0 * f.rms && amp > 1e-9 * (f.params[X_EQ].abs() + amp) {
+                        seg.fit = Some(f);
+                    } else {
+                        let msg = format!(
+                            "segment {} ({s:.1} s to {e:.1} s): no oscillation seen (amplitude {amp:.2e} rad against residuals {:.2e} rad); left out of the period",
+                            k + 1,
+                            f.rms
+                        );
+                        warnings.push(msg.clone());
+                        seg.note = Some(msg);
+                        seg.long = false;
+                    }
+                }
+                Err(source) => {
+                    let msg = format!(
+                        "segment {} ({s:.1} s to {e:.1} s): {source}; left out of the period",
+                        k + 1
+                    );
+                    warnings.push(msg.clone());
+                    seg.note = Some(msg);
+                    seg.long = false;
+                }
+            }
+        }
+        segs.push(seg);
+    }
+    let omegas: Vec<Measured> = segs
+        .iter()
+        .filter_map(|s| s.fit.as_ref())
+        .map(|f| {
+            let (w, u) = f.omega0();
+            Measured::new(w, u)
+        })
+        .collect();
+    let gammas: Vec<Measured> = segs
+        .iter()
+        .filter_map(|s| s.fit.as_ref())
+        .map(|f| Measured::new(f.params[GAMMA], f.u(GAMMA)))
+        .collect();
+    let Some((mut omega0, birge)) = weighted_mean(&omegas) else {
+        return Err(AnalysisError::NoPeriod {
+            min: opts.min_periods,
+            period: t_fft,
+        });
+    };
+    if let Some(b) = birge {
+        if b > 1.0 {
+            omega0.u *= b;
+            warnings.push(format!(
+                "the segments' periods scatter more than their uncertainties (Birge ratio {b:.2}): the period's uncertainty is scaled up by that factor"
+            ));
+        }
+    }
+    let (gamma, _) = weighted_mean(&gammas).unwrap_or((Measured::exact(0.0), None));
+    let gamma_v = gamma.value.max(0.0);
+    let omega_d = (omega0.value.powi(2) - gamma_v.powi(2)).max(0.0).sqrt();
+    for (k, seg) in segs.iter_mut().enumerate() {
+        if seg.fit.is_none() {
+            let (a, b) = seg.idx;
+            let (ts, ys) = (&t[a..b], &y[a..b]);
+            if ts.len() < 8 {
+                return Err(AnalysisError::Fit {
+                    segment: k + 1,
+                    start: seg.start,
+                    end: seg.end,
+                    source: damped::FitError::TooFew { n: ts.len(), p: 4 },
+                });
+            }
+            let t_mid = 0.5 * (ts[0] + ts[ts.len() - 1]);
+            let f = fit_fixed_frequency(ts, ys, seg.start, t_mid, gamma_v, omega_d, opts.fit_drift)
+                .map_err(|source| AnalysisError::Fit {
+                    segment: k + 1,
+                    start: seg.start,
+                    end: seg.end,
+                    source,
+                })?;
+            seg.fit = Some(f);
+        }
+    }
+    Ok(Fitted {
+        bounds,
+        segs,
+        omega0,
+        birge,
+        gamma,
+        gamma_v,
+        omega_d,
+    })
+}
+
 /// Run the whole analysis. `events`, when given, are the segment starts (the first one's position is
 /// taken as A and positions alternate); otherwise the moves are found in the trace.
 pub fn analyze(
@@ -324,43 +493,83 @@ pub fn analyze(
             ..Default::default()
         },
     )?;
-    let (moves, detection, guard) = match &given {
-        Some(m) => (m.clone(), None, 0.0),
+    let (moves, detection, guard, spectrum) = match &given {
+        Some(m) => (m.clone(), None, 0.0, first_spec),
         None => {
-            let d = segments::detect_moves(t, y, first_spec.period(), 0.0);
+            // The first guess may be a sideband (phases restart at each move); alternate between
+            // finding the moves and re-taking the spectrum stretch by stretch until they agree.
+            let mut p = first_spec.period();
+            let mut found = None;
+            for _ in 0..5 {
+                let d = segments::detect_moves(t, y, p, 0.0);
+                if d.moves.is_empty() {
+                    break;
+                }
+                let s = period::spectrum(
+                    t,
+                    y,
+                    &period::SpectrumOptions {
+                        breaks: d.moves.clone(),
+                        ..Default::default()
+                    },
+                )?;
+                let settled = (s.period() / p - 1.0).abs() < 0.01;
+                p = s.period();
+                found = Some((d, s));
+                if settled {
+                    break;
+                }
+            }
+            let Some((_, s)) = found else {
+                return Err(AnalysisError::NoMoves);
+            };
+            let d = segments::detect_moves(t, y, p, 0.0);
             if d.moves.is_empty() {
                 return Err(AnalysisError::NoMoves);
             }
             (
                 d.moves.clone(),
                 Some(d),
-                opts.detect_guard_periods * first_spec.period(),
+                opts.detect_guard_periods * s.period(),
+                s,
             )
         }
     };
-    let spectrum = if given.is_some() {
-        first_spec
-    } else {
-        period::spectrum(
-            t,
-            y,
-            &period::SpectrumOptions {
-                breaks: moves.clone(),
-                ..Default::default()
-            },
-        )?
-    };
     let t_fft = spectrum.period();
-    let mut bounds: Vec<(f64, f64)> = Vec::with_capacity(moves.len() + 1);
-    let mut lo = t[0];
-    for &m in &moves {
-        bounds.push((lo, m));
-        lo = m;
+    let mut first_pass = Vec::new();
+    let mut fitted = fit_segments(t, y, &moves, guard, t_fft, opts, &mut first_pass)?;
+    let mut moves = moves;
+    if detection.is_some() {
+        // Found moves: refine each time with the exact step response, then fit again.
+        let refined: Vec<f64> = moves
+            .iter()
+            .enumerate()
+            .map(|(k, &m)| {
+                let lo = if k == 0 {
+                    t[0]
+                } else {
+                    0.5 * (moves[k - 1] + m)
+                };
+                let hi = moves.get(k + 1).map_or(t[n - 1], |&nx| 0.5 * (m + nx));
+                segments::refine_move(t, y, m, lo, hi, fitted.gamma_v, fitted.omega_d).unwrap_or(m)
+            })
+            .collect();
+        moves = refined;
+        let mut w2 = Vec::new();
+        fitted = fit_segments(t, y, &moves, guard, t_fft, opts, &mut w2)?;
+        warnings.extend(w2);
+    } else {
+        warnings.extend(first_pass);
     }
-    bounds.push((lo, t[n - 1]));
-    if bounds.len() < 2 {
-        return Err(AnalysisError::OneSegment);
-    }
+    let Fitted {
+        bounds,
+        segs,
+        omega0,
+        birge,
+        gamma,
+        gamma_v,
+        omega_d,
+    } = fitted;
     let labels: Vec<String> = match events {
         Some(ev) => ev.iter().map(|e| e.label.clone()).collect(),
         None => (0..bounds.len())
@@ -368,115 +577,6 @@ pub fn analyze(
             .collect(),
     };
 
-    // 3. Per-segment fits.
-    struct Seg {
-        idx: (usize, usize),
-        start: f64,
-        end: f64,
-        long: bool,
-        fit: Option<DampedFit>,
-        note: Option<String>,
-    }
-    let mut segs: Vec<Seg> = Vec::new();
-    for (k, &(s, e)) in bounds.iter().enumerate() {
-        let lo_t = if k > 0 { s + guard } else { s };
-        let hi_t = if k + 1 < bounds.len() {
-            e - guard
-        } else {
-            e + 1.0
-        };
-        let a = t.partition_point(|&v| v < lo_t);
-        let b = t.partition_point(|&v| v < hi_t);
-        let length = e - s;
-        let long = length >= opts.min_periods * t_fft && b - a >= 16;
-        let mut seg = Seg {
-            idx: (a, b),
-            start: s,
-            end: e,
-            long,
-            fit: None,
-            note: None,
-        };
-        if !long {
-            let msg = format!(
-                "segment {} ({s:.1} s to {e:.1} s) lasts {:.2} periods (< {}): left out of the period; its equilibrium is fitted with the other segments' period and damping",
-                k + 1,
-                length / t_fft,
-                opts.min_periods
-            );
-            warnings.push(msg.clone());
-            seg.note = Some(msg);
-        } else {
-            let (ts, ys) = (&t[a..b], &y[a..b]);
-            let t_mid = 0.5 * (ts[0] + ts[ts.len() - 1]);
-            match fit_damped(ts, ys, s, t_mid, 2.0 * PI / t_fft, opts.fit_drift) {
-                Ok(f) => seg.fit = Some(f),
-                Err(source) => {
-                    let msg = format!(
-                        "segment {} ({s:.1} s to {e:.1} s): {source}; left out of the period",
-                        k + 1
-                    );
-                    warnings.push(msg.clone());
-                    seg.note = Some(msg);
-                    seg.long = false;
-                }
-            }
-        }
-        segs.push(seg);
-    }
-    let omegas: Vec<Measured> = segs
-        .iter()
-        .filter_map(|s| s.fit.as_ref())
-        .map(|f| {
-            let (w, u) = f.omega0();
-            Measured::new(w, u)
-        })
-        .collect();
-    let gammas: Vec<Measured> = segs
-        .iter()
-        .filter_map(|s| s.fit.as_ref())
-        .map(|f| Measured::new(f.params[GAMMA], f.u(GAMMA)))
-        .collect();
-    let Some((mut omega0, birge)) = weighted_mean(&omegas) else {
-        return Err(AnalysisError::NoPeriod {
-            min: opts.min_periods,
-            period: t_fft,
-        });
-    };
-    if let Some(b) = birge {
-        if b > 1.0 {
-            omega0.u *= b;
-            warnings.push(format!(
-                "the segments' periods scatter more than their uncertainties (Birge ratio {b:.2}): the period's uncertainty is scaled up by that factor"
-            ));
-        }
-    }
-    let (gamma, _) = weighted_mean(&gammas).unwrap_or((Measured::exact(0.0), None));
-    let gamma_v = gamma.value.max(0.0);
-    let omega_d = (omega0.value.powi(2) - gamma_v.powi(2)).max(0.0).sqrt();
-    for (k, seg) in segs.iter_mut().enumerate() {
-        if seg.fit.is_none() {
-            let (a, b) = seg.idx;
-            let (ts, ys) = (&t[a..b], &y[a..b]);
-            if ts.len() < 8 {
-                return Err(AnalysisError::Fit {
-                    segment: k + 1,
-                    start: seg.start,
-                    end: seg.end,
-                    source: damped::FitError::TooFew { n: ts.len(), p: 4 },
-                });
-            }
-            let t_mid = 0.5 * (ts[0] + ts[ts.len() - 1]);
-            let f = fit_fixed_frequency(ts, ys, seg.start, t_mid, gamma_v, omega_d, opts.fit_drift)
-                .map_err(|source| AnalysisError::Fit {
-                    segment: k + 1,
-                    start: seg.start,
-                    end: seg.end,
-                    source,
-                })?;
-            seg.fit = Some(f);
-        }
-    }
     let period0 = 2.0 * PI / omega0.value;
     let segments: Vec<SegmentResult> = segs
         .into_iter()

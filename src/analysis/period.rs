@@ -4,8 +4,8 @@
 //! only, never in the fits), remove a straight line from each stretch between `breaks` (so the steps of
 //! the equilibrium at mass moves do not leak into the spectrum), optionally take the first difference
 //! (which favours the oscillation over the steps when the breaks are not known yet), apply a Hann
-//! window, zero-pad to at least `pad` times the length (next power of two), take the magnitude of the
-//! FFT (rustfft) and interpolate the highest peak with a parabola through the logarithms of the three
+//! window to each stretch, zero-pad to at least `pad` times the longest stretch (next power of two),
+//! add the stretches' FFT powers (rustfft), and interpolate the highest peak with a parabola through the logarithms of the three
 //! bins around it (exact for a Gaussian peak; a common practice for Hann-windowed spectra, no source).
 
 use rustfft::{num_complex::Complex, FftPlanner};
@@ -147,18 +147,39 @@ pub fn spectrum(t: &[f64], y: &[f64], opts: &SpectrumOptions) -> Result<Spectrum
     if n < 16 {
         return Err(SpectrumError::TooShort(n));
     }
-    let nfft = (opts.pad.max(1) * n).next_power_of_two();
-    let mut buf: Vec<Complex<f64>> = vec![Complex::new(0.0, 0.0); nfft];
-    for (k, x) in v.iter().enumerate() {
-        // Hann window.
-        let w = 0.5 - 0.5 * (2.0 * std::f64::consts::PI * k as f64 / (n as f64 - 1.0)).cos();
-        buf[k].re = x * w;
+    // Each stretch gets its own Hann window and FFT, and their powers add (phases restart at each
+    // move, so one transform over all of them would split the peak into sidebands).
+    let mut stretches: Vec<(usize, usize)> = Vec::new();
+    let mut lo = 0;
+    for &c in cuts.iter().chain(std::iter::once(&n)) {
+        let c = c.min(n);
+        if c > lo + 8 {
+            stretches.push((lo, c));
+        }
+        lo = c;
     }
-    FftPlanner::new().plan_fft_forward(nfft).process(&mut buf);
+    let longest = stretches.iter().map(|(a, b)| b - a).max().unwrap_or(n);
+    let nfft = (opts.pad.max(1) * longest).next_power_of_two();
+    let mut power = vec![0.0; nfft / 2 + 1];
+    let fft = FftPlanner::new().plan_fft_forward(nfft);
+    for &(a, b) in &stretches {
+        let m = b - a;
+        let mut buf: Vec<Complex<f64>> = vec![Complex::new(0.0, 0.0); nfft];
+        for (k, x) in v[a..b].iter().enumerate() {
+            // Hann window.
+            let w = 0.5 - 0.5 * (2.0 * std::f64::consts::PI * k as f64 / (m as f64 - 1.0)).cos();
+            buf[k].re = x * w;
+        }
+        fft.process(&mut buf);
+        for (p, c) in power.iter_mut().zip(&buf) {
+            *p += c.norm_sqr();
+        }
+    }
+    let n = longest;
     let half = nfft / 2 + 1;
     let df = 1.0 / (nfft as f64 * dt);
     let freq_hz: Vec<f64> = (0..half).map(|k| k as f64 * df).collect();
-    let magnitude: Vec<f64> = buf[..half].iter().map(|c| c.norm()).collect();
+    let magnitude: Vec<f64> = power.iter().map(|p| p.sqrt()).collect();
     // Skip the bins below 1.5 cycles per record (the window's leakage of what detrending left).
     let kmin = ((1.5 / (n as f64 * dt)) / df).ceil() as usize;
     let kmin = kmin.max(1);

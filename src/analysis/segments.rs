@@ -7,9 +7,11 @@
 //! of a period around each point of a grid (a hundredth of a period apart, using only the samples
 //! present, so gaps are not bridged); the step detector is the difference between the means of
 //! `theta_eq` over one period after and one period before each grid point, whose extremes (above eight
-//! times the detector's robust noise and above a quarter of the largest step) are the moves. A full
+//! times the detector's noise, estimated robustly from differences of `theta_eq`, and above a quarter
+//! of the largest step) are the moves. A full
 //! period in each window cancels the ripple the quadratic's bias leaves at the oscillation frequency.
 //! Moves closer than one period to the ends of the trace, or to each other, are not found.
+//! [`refine_move`] then sharpens each time with the exact step response of the oscillator.
 
 use std::path::{Path, PathBuf};
 
@@ -204,10 +206,19 @@ pub fn detect_moves(t: &[f64], y: &[f64], period: f64, gamma: f64) -> Detection 
     if step.is_empty() {
         return empty;
     }
-    let mut absd: Vec<f64> = step.iter().map(|v| v.abs()).collect();
-    absd.sort_by(f64::total_cmp);
-    let noise = 1.4826 * absd[absd.len() / 2];
-    let largest = absd[absd.len() - 1];
+    // Noise of the detector: the equilibrium's scatter from differences two smoothing widths apart
+    // (the steps touch only a few of them), reduced by the about five independent values per window.
+    let lag = 20;
+    let mut diffs: Vec<f64> = (lag..m)
+        .filter_map(|k| Some((eq[k]? - eq[k - lag]?).abs()))
+        .collect();
+    if diffs.is_empty() {
+        return empty;
+    }
+    diffs.sort_by(f64::total_cmp);
+    let sigma_eq = 1.4826 * diffs[diffs.len() / 2] / std::f64::consts::SQRT_2;
+    let noise = sigma_eq * (2.0f64 / 5.0).sqrt();
+    let largest = step.iter().fold(0.0f64, |a, b| a.max(b.abs()));
     let threshold = (8.0 * noise).max(0.25 * largest);
     let mut moves = Vec::new();
     let mut k = 0;
@@ -249,6 +260,92 @@ pub fn detect_moves(t: &[f64], y: &[f64], period: f64, gamma: f64) -> Detection 
         step,
         noise,
     }
+}
+
+/// Refine a move's time near `guess` using the samples in `[lo, hi]` (kept within one period of it):
+/// the trace there is fitted as a free oscillation plus the exact response to a torque step at `t_m`,
+/// `Delta (1 - e^(-gamma s) (cos omega_d s + (gamma / omega_d) sin omega_d s))`, `s = t - t_m`, all
+/// amplitudes linear; `t_m` is scanned over a tenth of a period either side of `guess` and the lowest
+/// residual is refined by a parabola. `None` when there are too few samples.
+pub fn refine_move(
+    t: &[f64],
+    y: &[f64],
+    guess: f64,
+    lo: f64,
+    hi: f64,
+    gamma: f64,
+    omega_d: f64,
+) -> Option<f64> {
+    if !(omega_d > 0.0) {
+        return None;
+    }
+    let period = 2.0 * std::f64::consts::PI / omega_d;
+    let (lo, hi) = (lo.max(guess - period), hi.min(guess + period));
+    let a = t.partition_point(|&v| v < lo);
+    let b = t.partition_point(|&v| v <= hi);
+    if b < a + 12 {
+        return None;
+    }
+    let (ts, ys) = (&t[a..b], &y[a..b]);
+    let ym = ys.iter().sum::<f64>() / ys.len() as f64;
+    let rss_at = |tm: f64| -> Option<f64> {
+        let mut m = nalgebra::Matrix4::<f64>::zeros();
+        let mut r = nalgebra::Vector4::<f64>::zeros();
+        let rows: Vec<nalgebra::Vector4<f64>> = ts
+            .iter()
+            .map(|&tt| {
+                let e = (-gamma * (tt - lo)).exp();
+                let (sn, cs) = (omega_d * (tt - lo)).sin_cos();
+                let s = tt - tm;
+                let step = if s >= 0.0 {
+                    let (ss, cc) = (omega_d * s).sin_cos();
+                    1.0 - (-gamma * s).exp() * (cc + gamma / omega_d * ss)
+                } else {
+                    0.0
+                };
+                nalgebra::Vector4::new(1.0, e * cs, e * sn, step)
+            })
+            .collect();
+        for (v, &yy) in rows.iter().zip(ys) {
+            m += v * v.transpose();
+            r += v * (yy - ym);
+        }
+        let c = m.try_inverse()? * r;
+        Some(
+            rows.iter()
+                .zip(ys)
+                .map(|(v, &yy)| (v.dot(&c) - (yy - ym)).powi(2))
+                .sum(),
+        )
+    };
+    let step = period / 400.0;
+    let cand: Vec<(f64, f64)> = (-40..=40)
+        .map(|k| guess + k as f64 * step)
+        .filter(|&tm| tm > ts[0] && tm < ts[ts.len() - 1])
+        .filter_map(|tm| rss_at(tm).map(|r| (tm, r)))
+        .collect();
+    if cand.len() < 3 {
+        return None;
+    }
+    let (kb, _) = cand
+        .iter()
+        .enumerate()
+        .fold((0, f64::INFINITY), |(bk, bv), (k, c)| {
+            if c.1 < bv {
+                (k, c.1)
+            } else {
+                (bk, bv)
+            }
+        });
+    let mut tm = cand[kb].0;
+    if kb > 0 && kb + 1 < cand.len() {
+        let (r0, r1, r2) = (cand[kb - 1].1, cand[kb].1, cand[kb + 1].1);
+        let den = r0 - 2.0 * r1 + r2;
+        if den > 0.0 {
+            tm += (0.5 * (r0 - r2) / den).clamp(-1.0, 1.0) * step;
+        }
+    }
+    Some(tm)
 }
 
 #[cfg(test)]

@@ -1,0 +1,171 @@
+//! `report.svg`: three panels drawn with plotters' SVG backend — the twist angle with each segment's
+//! fitted curve and equilibrium, the fit residuals, and the amplitude spectrum around its peak. Text is
+//! written as SVG `<text>` elements (plotters without a font feature), so no system font library is
+//! needed; the viewer supplies the font.
+
+use super::result_json::WriteError;
+use crate::analysis::{Analysis, Sample};
+use plotters::prelude::*;
+use std::path::Path;
+
+fn draw_err<E: std::fmt::Debug>(path: &Path) -> impl Fn(E) -> WriteError + '_ {
+    move |e| {
+        WriteError::new(
+            path,
+            std::io::Error::other(format!("drawing the report: {e:?}")),
+        )
+    }
+}
+
+fn range(v: impl Iterator<Item = f64>) -> (f64, f64) {
+    let (lo, hi) = v
+        .filter(|x| x.is_finite())
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
+            (a.min(x), b.max(x))
+        });
+    if !(lo.is_finite() && hi.is_finite()) {
+        return (0.0, 1.0);
+    }
+    let pad = ((hi - lo) * 0.05).max(1e-12 * hi.abs().max(1.0));
+    (lo - pad, hi + pad)
+}
+
+/// Draw the report for `samples` analysed as `a`.
+pub fn write_report_svg(path: &Path, samples: &[Sample], a: &Analysis) -> Result<(), WriteError> {
+    let e = draw_err(path);
+    let root = SVGBackend::new(path, (1100, 950)).into_drawing_area();
+    root.fill(&WHITE).map_err(&e)?;
+    let (top, rest) = root.split_vertically(420);
+    let (mid, bottom) = rest.split_vertically(250);
+
+    let good: Vec<&Sample> = samples
+        .iter()
+        .filter(|s| s.t.is_finite() && s.theta.is_finite())
+        .collect();
+    let (t0, t1) = range(good.iter().map(|s| s.t));
+    let (y0, y1) = range(good.iter().map(|s| s.theta * 1e3));
+    let title = format!(
+        "Twist angle, fits and equilibria  (G = {:.4e} ± {:.1e} m^3 kg^-1 s^-2)",
+        a.g.value, a.g.u
+    );
+    let mut chart = ChartBuilder::on(&top)
+        .caption(title, ("sans-serif", 18))
+        .margin(12)
+        .x_label_area_size(32)
+        .y_label_area_size(70)
+        .build_cartesian_2d(t0..t1, y0..y1)
+        .map_err(&e)?;
+    chart
+        .configure_mesh()
+        .x_desc("t (s)")
+        .y_desc("theta (mrad)")
+        .draw()
+        .map_err(&e)?;
+    chart
+        .draw_series(
+            good.iter()
+                .map(|s| Circle::new((s.t, s.theta * 1e3), 1, RGBColor(120, 120, 120).filled())),
+        )
+        .map_err(&e)?;
+    let mut residuals: Vec<(f64, f64)> = Vec::new();
+    for seg in &a.segments {
+        let in_seg: Vec<&&Sample> = good
+            .iter()
+            .filter(|s| s.t >= seg.start && s.t <= seg.end)
+            .collect();
+        let curve: Vec<(f64, f64)> = in_seg
+            .iter()
+            .map(|s| (s.t, seg.fit.eval(s.t) * 1e3))
+            .collect();
+        chart
+            .draw_series(LineSeries::new(
+                curve,
+                RGBColor(200, 40, 40).stroke_width(2),
+            ))
+            .map_err(&e)?;
+        // Equilibrium line (with the fitted drift).
+        let line: Vec<(f64, f64)> = [seg.start, seg.end]
+            .iter()
+            .map(|&t| {
+                let eq = seg.equilibrium.value + seg.fit.params[5] * (t - seg.t_ref);
+                (t, eq * 1e3)
+            })
+            .collect();
+        chart
+            .draw_series(LineSeries::new(line, RGBColor(30, 90, 200).stroke_width(2)))
+            .map_err(&e)?;
+        residuals.extend(
+            in_seg
+                .iter()
+                .map(|s| (s.t, (s.theta - seg.fit.eval(s.t)) * 1e6)),
+        );
+    }
+    for &m in &a.moves {
+        chart
+            .draw_series(LineSeries::new(
+                vec![(m, y0), (m, y1)],
+                RGBColor(0, 150, 0).stroke_width(1),
+            ))
+            .map_err(&e)?;
+    }
+
+    let (r0, r1) = range(residuals.iter().map(|r| r.1));
+    let mut chart = ChartBuilder::on(&mid)
+        .caption("Residuals of the segment fits", ("sans-serif", 16))
+        .margin(12)
+        .x_label_area_size(32)
+        .y_label_area_size(70)
+        .build_cartesian_2d(t0..t1, r0..r1)
+        .map_err(&e)?;
+    chart
+        .configure_mesh()
+        .x_desc("t (s)")
+        .y_desc("residual (urad)")
+        .draw()
+        .map_err(&e)?;
+    chart
+        .draw_series(
+            residuals
+                .iter()
+                .map(|&(t, r)| Circle::new((t, r), 1, RGBColor(60, 60, 60).filled())),
+        )
+        .map_err(&e)?;
+
+    let sp = &a.spectrum;
+    let fmax = (5.0 * sp.peak_hz).min(*sp.freq_hz.last().unwrap_or(&1.0));
+    let pts: Vec<(f64, f64)> = sp
+        .freq_hz
+        .iter()
+        .zip(&sp.magnitude)
+        .filter(|(f, _)| **f <= fmax)
+        .map(|(f, m)| (f * 1e3, *m))
+        .collect();
+    let (_, m1) = range(pts.iter().map(|p| p.1));
+    let mut chart = ChartBuilder::on(&bottom)
+        .caption(
+            format!("Amplitude spectrum (peak at {:.2} s)", sp.period()),
+            ("sans-serif", 16),
+        )
+        .margin(12)
+        .x_label_area_size(32)
+        .y_label_area_size(70)
+        .build_cartesian_2d(0.0..fmax * 1e3, 0.0..m1)
+        .map_err(&e)?;
+    chart
+        .configure_mesh()
+        .x_desc("frequency (mHz)")
+        .y_desc("|FFT|")
+        .draw()
+        .map_err(&e)?;
+    chart
+        .draw_series(LineSeries::new(pts, RGBColor(120, 40, 160).stroke_width(2)))
+        .map_err(&e)?;
+    chart
+        .draw_series(LineSeries::new(
+            vec![(sp.peak_hz * 1e3, 0.0), (sp.peak_hz * 1e3, m1)],
+            RGBColor(0, 150, 0),
+        ))
+        .map_err(&e)?;
+    root.present().map_err(&e)?;
+    Ok(())
+}
