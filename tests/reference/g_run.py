@@ -98,23 +98,27 @@ def measured(doc, name):
     return None
 
 
-def monte_carlo_u(doc):
-    """spotlever's Monte Carlo standard uncertainty of G, wherever result.json keeps it."""
-    def walk(v, path):
-        if isinstance(v, dict):
-            for k, x in v.items():
-                yield from walk(x, path + [k.lower()])
-        elif isinstance(v, (int, float)) and not isinstance(v, bool):
-            yield path, float(v)
-
-    for path, val in walk(doc, []):
-        joined = "/".join(path)
-        if ("monte" in joined or "mc" in path[:-1] or path[-1].startswith("mc_") or "_mc" in path[-1]) and (
-            path[-1] in ("u", "std", "sd", "u_mc", "mc_u", "standard_uncertainty")
-        ):
-            if "g" in path or path[0] in ("monte_carlo", "mc", "g_monte_carlo"):
-                return val, joined
-    return None, None
+def numpy_mc_lever(theta_mid, theta, u_theta, period, u_period, m=200_000, seed=5):
+    """Monte Carlo of G (JCGM 101:2008) over the quantities actually measured: the apparatus, the screen
+    distance L, half the scale difference S between the two positions' equilibrium readings and the
+    period; all independent normals. theta = (atan((x_mid + S) / L) - atan((x_mid - S) / L)) / 4 on a
+    flat screen, x_mid held at the midpoint reading. S and u(S) come from theta and u(theta) at the
+    nominal L (x = L tan 2 theta). Returns (mean, sd, 95 % shortest interval)."""
+    x_mid = L_M * math.tan(2 * theta_mid)
+    hi, lo = L_M * math.tan(2 * (theta_mid + theta)), L_M * math.tan(2 * (theta_mid - theta))
+    s = (hi - lo) / 2
+    ds = (L_M * math.tan(2 * (theta_mid + theta + 1e-9)) - L_M * math.tan(2 * (theta_mid - theta - 1e-9))) / 2 - s
+    u_s = u_theta * ds / 1e-9
+    rng = np.random.default_rng(seed)
+    q = {k: rng.normal(v, u, m) for k, (v, u) in ar.APPARATUS.items()}
+    ell = rng.normal(L_M, U_L_M, m)
+    ss = rng.normal(s, u_s, m)
+    th = (np.arctan((x_mid + ss) / ell) - np.arctan((x_mid - ss) / ell)) / 4
+    g = ar.g_model(q, th, rng.normal(period, u_period, m))
+    g.sort()
+    k = int(0.95 * m)
+    i = int(np.argmin(g[k:] - g[: m - k]))
+    return float(g.mean()), float(g.std(ddof=1)), (float(g[i]), float(g[i + k]))
 
 
 def run(bin_path, work, table):
@@ -148,27 +152,39 @@ def run(bin_path, work, table):
         f"|G - G_true| = {abs(g_s[0] - G_CODATA_2018) / g_s[1]:.2f} u (tolerance 2 u); "
         f"theta {th[0]:.4e} (truth {theta_g:.4e}), T {per[0]:.3f} s (truth T0 {T0})",
     )
-    # The numpy Monte Carlo: the apparatus's inputs, the period and the deflection (whose stated
-    # uncertainty already carries the screen distance's share, since theta comes from x / L).
+    # The numpy Monte Carlo of the same measurement: apparatus, L, the half scale difference, the period.
+    eqs = [seg["equilibrium_rad"]["value"] for seg in doc.get("segments", []) if seg.get("equilibrium_rad")]
+    theta_mid = float(np.mean(eqs)) if eqs else 0.0
     m = 200_000
-    mean, sd, ci = ar.numpy_mc_g(th[0], th[1], per[0], per[1], m=m)
+    mean, sd, ci = numpy_mc_lever(theta_mid, th[0], th[1], per[0], per[1], m=m)
     rel_np = sd / mean
-    u_mc, where = monte_carlo_u(doc)
-    if u_mc is None:
+    mc = doc.get("G_monte_carlo") or {}
+    if "u" not in mc or "mean" not in mc:
         table.add("u(G) by Monte Carlo, relative", "n/a", f"{rel_np:.4e} (numpy MC, {m} draws)", "-", "FAIL",
-                  "result.json has no Monte Carlo standard uncertainty of G")
+                  "result.json has no G_monte_carlo {mean, u}")
         return
-    rel_s = u_mc / abs(g_s[0])
+    draws = float(mc.get("draws") or 1e5)
+    rel_s = mc["u"] / abs(mc["mean"])
     # Two Monte Carlo estimates of one standard deviation differ by their sampling errors, each about
-    # sd / sqrt(2 M) (normal output), so allow 3 x sqrt(1/(2 M1) + 1/(2 M2)) relative with M1 >= 1e5,
-    # plus 2 % for the screen distance's share being counted inside u(theta) here (first order).
-    tol = 3 * math.sqrt(1 / (2 * m) + 1 / (2 * 1e5)) + 0.02
+    # sd / sqrt(2 M) relative for a near-normal output (JCGM 101:2008 7.9 discusses the adaptive choice of
+    # M from this), so allow 3 x sqrt(1/(2 M1) + 1/(2 M2)).
+    tol = 3 * math.sqrt(1 / (2 * m) + 1 / (2 * draws))
     table.add(
         "u(G) by Monte Carlo, relative",
         f"{rel_s:.4e}",
         f"{rel_np:.4e} (numpy MC, {m} draws)",
         "-",
         "PASS" if abs(rel_s / rel_np - 1) <= tol else "FAIL",
-        f"ratio {rel_s / rel_np:.4f} (tolerance ±{tol:.3f}); from result.json {where}; "
-        f"numpy 95 % interval [{ci[0]:.4e}, {ci[1]:.4e}]",
+        f"ratio {rel_s / rel_np:.4f} (tolerance ±{tol:.4f}); spotlever {int(draws)} draws; "
+        f"numpy 95 % interval [{ci[0]:.4e}, {ci[1]:.4e}], spotlever {mc.get('interval_95')}",
+    )
+    # The two means of the same model should agree within the sampling error of a mean, 3 sd / sqrt(M).
+    tol_mean = 3 * sd * math.sqrt(1 / m + 1 / draws)
+    table.add(
+        "G Monte Carlo mean",
+        f"{mc['mean']:.5e}",
+        f"{mean:.5e} (numpy MC)",
+        f"{G_CODATA_2018:.5e}",
+        "PASS" if abs(mc["mean"] - mean) <= tol_mean else "FAIL",
+        f"|difference| {abs(mc['mean'] - mean):.2e} (tolerance {tol_mean:.2e})",
     )
