@@ -20,7 +20,7 @@ import time
 import numpy as np
 
 import scene
-from util import read_track, run_spotlever
+from util import read_result, read_track, run_spotlever
 
 W, H = 1920, 1080
 FPS = 10
@@ -218,13 +218,7 @@ def run(bin_path, py, work, table):
         f"target spotlever <= 0.5 x baseline: ratio {s_rms / base_rms:.3f}; lost {lost}"
         + ("" if ok_tr else f"; spotlever: {msg_tr}"),
     )
-    doc = None
-    if ok_an:
-        try:
-            with open(os.path.join(out_dir, "result.json")) as f:
-                doc = json.load(f)
-        except Exception as ex:
-            ok_an, msg_an = False, f"cannot read result.json: {ex}"
+    doc, ok_an, msg_an = read_result(ok_an, msg_an, out_dir)
     segs = segment_values(doc) if doc else []
     bsegs = base["segments"] if base else []
     t0_truth = natural_period()

@@ -6,14 +6,13 @@ The run is simulated here, independently of spotlever: the exact piecewise solut
 torsion oscillator whose equilibrium steps at each mass move, with G = CODATA 2018 6.67430e-11.
 """
 
-import json
 import math
 import os
 
 import numpy as np
 
 import analysis_refs as ar
-from util import run_spotlever
+from util import read_result, run_spotlever
 
 G_CODATA_2018 = 6.67430e-11  # CODATA 2018 recommended value, m^3 kg^-1 s^-2
 L_M, U_L_M = 2.0, 0.005  # mirror to screen, as in the setup file
@@ -126,13 +125,7 @@ def run(bin_path, work, table):
     track, events, setup = write_inputs(work, t, theta)
     out = os.path.join(work, "g_analysis")
     ok, msg = run_spotlever(bin_path, ["analyze", track, "--setup", setup, "--events", events, "--out", out])
-    doc = None
-    if ok:
-        try:
-            with open(os.path.join(out, "result.json")) as f:
-                doc = json.load(f)
-        except Exception as e:
-            ok, msg = False, f"cannot read result.json: {e}"
+    doc, ok, msg = read_result(ok, msg, out)
     g_s = measured(doc, "G") if doc else None
     th = measured(doc, "theta_rad") if doc else None
     per = measured(doc, "period_s") if doc else None

@@ -2,7 +2,9 @@
 and the statistical test that decides "not less accurate"."""
 
 import csv
+import json
 import math
+import os
 import subprocess
 import time
 
@@ -10,7 +12,7 @@ import numpy as np
 
 
 def run_spotlever(bin_path, args, timeout=900):
-    """Run spotlever; returns (ok, message, seconds)."""
+    """Run spotlever; returns (ok, message); the wall time is left in `run_spotlever.last_seconds`."""
     t0 = time.perf_counter()
     try:
         p = subprocess.run([bin_path] + list(args), capture_output=True, text=True, timeout=timeout)
@@ -49,6 +51,17 @@ def read_track(path):
             }
         )
     return rows
+
+
+def read_result(ok, msg, out_dir):
+    """`result.json` of an analyze run that exited `ok`: (doc or None, ok, message)."""
+    if not ok:
+        return None, ok, msg
+    try:
+        with open(os.path.join(out_dir, "result.json")) as f:
+            return json.load(f), True, msg
+    except Exception as e:
+        return None, False, f"cannot read result.json: {e}"
 
 
 def paired_not_worse(sq_err_a, sq_err_b, k=2.0):
