@@ -2,8 +2,8 @@
 fit (scipy.optimize.curve_fit) and the Monte Carlo uncertainty of G (an independent numpy Monte Carlo of
 the same measurement model, JCGM 101:2008 section 7).
 
-spotlever's side comes from the probe example (library functions on files) for the spectrum and the fit,
-and from `spotlever analyze` for G.
+spotlever's side comes from the probe example (library functions on files) for the spectrum and the fit;
+g_run.py runs `spotlever analyze` for G.
 """
 
 import json
@@ -149,11 +149,3 @@ def run(bin_path, probe, work, table):
         table.add(qty, f"{s:.6g}", f"{ref[key]:.6g}", f"{truth[key]:.6g}", "PASS" if agree and near else "FAIL",
                   f"|spotlever - scipy| = {abs(s - ref[key]) / ref_u[key]:.3f} sigma (tolerance 0.01); "
                   f"spotlever - truth = {(s - truth[key]) / ref_u[key]:+.2f} sigma")
-    run_g(bin_path, work, table)
-
-
-def run_g(bin_path, work, table):
-    """The Monte Carlo uncertainty of G from `spotlever analyze` against numpy's."""
-    import g_run
-
-    g_run.run(bin_path, work, table)

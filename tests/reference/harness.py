@@ -17,6 +17,7 @@ sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 
 import analysis_refs  # noqa: E402
 import clip  # noqa: E402
+import g_run  # noqa: E402
 import homography  # noqa: E402
 import scene  # noqa: E402
 import spots  # noqa: E402
@@ -44,6 +45,7 @@ def main():
     homography.run(a.bin, a.work, h, spots.WIDTH, spots.HEIGHT, bg, table)
     print("== spectrum, damped fit, Monte Carlo of G", flush=True)
     analysis_refs.run(a.bin, a.probe, a.work, table)
+    g_run.run(a.bin, a.work, table)
     speed = None
     if not a.skip_clip:
         print("== side by side on the H.264 clip", flush=True)
