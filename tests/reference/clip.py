@@ -194,6 +194,10 @@ def run(bin_path, py, work, table):
     t0 = time.perf_counter()
     ok_e1, msg_e1 = run_spotlever(bin_path, ["track", clip] + calib_args + ["--every", "1", "--out", track1])
     t_every = time.perf_counter() - t0
+    # The floor again, right after the tracking runs: the machine may be shared, so the smaller of the
+    # two decoder-alone times is used (the conservative choice for the overhead).
+    _, t_decode_again = timed(["ffmpeg", "-nostdin", "-loglevel", "info", "-i", clip] + same)
+    t_decode_first, t_decode = t_decode, min(t_decode, t_decode_again)
 
     # ---- accuracy ----
     base_rms = math.nan
@@ -257,7 +261,8 @@ def run(bin_path, py, work, table):
         f"{t_decode:.1f} s ffmpeg decode, same options",
         "-",
         "PASS" if r1 <= 0.10 else "FAIL",
-        f"overhead {r1:+.3f} (target <= +0.10); plain decode without the timing filter {t_decode_plain:.1f} s",
+        f"overhead {r1:+.3f} (target <= +0.10); decoder alone before/after tracking {t_decode_first:.1f}/{t_decode_again:.1f} s (smaller used); "
+        f"plain decode without the timing filter {t_decode_plain:.1f} s",
     )
     table.add(
         "speed: end-to-end wall time, spotlever / baseline",
