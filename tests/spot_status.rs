@@ -37,6 +37,23 @@ fn plane_with(
     Plane::new(px, 255)
 }
 
+/// A sigma 2.5 px spot on 40 DN in 3 DN noise, 8-bit, in a 96 x 96 frame.
+fn flat(centre: PixelPoint, peak_dn: f64) -> FlatSpot {
+    FlatSpot {
+        width: 96,
+        height: 96,
+        centre,
+        peak_dn,
+        background_dn: 40.0,
+        sigma_px: 2.5,
+        sensor: Sensor {
+            noise_dn: 3.0,
+            blur_sigma_px: 0.0,
+            white: 255,
+        },
+    }
+}
+
 fn pt(x: f64, y: f64) -> PixelPoint {
     PixelPoint { x, y }
 }
@@ -64,48 +81,32 @@ fn blank_frames_are_lost() {
 
 #[test]
 fn two_equal_spots_are_ambiguous() {
-    let p = plane_with(
-        320,
-        240,
-        &[(pt(80.3, 100.6), 150.0), (pt(230.7, 140.2), 150.0)],
-        2.5,
-        |_, _| 40.0,
-        2,
-    );
-    let fix = locate(&p, &SpotConfig::default());
+    let (a, b) = (pt(80.3, 100.6), pt(230.7, 140.2));
+    let pair = |second_peak: f64, seed: u64| {
+        let p = plane_with(
+            320,
+            240,
+            &[(a, 150.0), (b, second_peak)],
+            2.5,
+            |_, _| 40.0,
+            seed,
+        );
+        locate(&p, &SpotConfig::default())
+    };
+    let fix = pair(150.0, 2);
     assert_eq!(fix.status, SpotStatus::Ambiguous);
     // The position is one of the two spots, not somewhere between.
     let pos = fix.position.expect("the stronger spot's position");
-    assert!(dist(pos, pt(80.3, 100.6)) < 0.1 || dist(pos, pt(230.7, 140.2)) < 0.1);
+    assert!(dist(pos, a) < 0.1 || dist(pos, b) < 0.1);
     // A much weaker second spot (a fifth) does not make it ambiguous.
-    let p = plane_with(
-        320,
-        240,
-        &[(pt(80.3, 100.6), 150.0), (pt(230.7, 140.2), 30.0)],
-        2.5,
-        |_, _| 40.0,
-        3,
-    );
-    let fix = locate(&p, &SpotConfig::default());
+    let fix = pair(30.0, 3);
     assert_eq!(fix.status, SpotStatus::Ok);
-    assert!(dist(fix.position.unwrap(), pt(80.3, 100.6)) < 0.1);
+    assert!(dist(fix.position.unwrap(), a) < 0.1);
 }
 
 #[test]
 fn clipped_spot_is_saturated_and_its_peak_extrapolated() {
-    let spot = FlatSpot {
-        width: 96,
-        height: 96,
-        centre: pt(47.3, 48.8),
-        peak_dn: 600.0,
-        background_dn: 40.0,
-        sigma_px: 2.5,
-        sensor: Sensor {
-            noise_dn: 3.0,
-            blur_sigma_px: 0.0,
-            white: 255,
-        },
-    };
+    let spot = flat(pt(47.3, 48.8), 600.0);
     let plane = render_flat_spot(&spot, 4).unwrap();
     let clipped = plane.pixels.iter().filter(|&&v| v == 255).count() as u32;
     let fix = locate(&plane, &SpotConfig::default());
@@ -121,19 +122,7 @@ fn clipped_spot_is_saturated_and_its_peak_extrapolated() {
 
 #[test]
 fn quality_figures_match_the_drawn_spot() {
-    let spot = FlatSpot {
-        width: 96,
-        height: 96,
-        centre: pt(40.2, 55.7),
-        peak_dn: 180.0,
-        background_dn: 40.0,
-        sigma_px: 2.5,
-        sensor: Sensor {
-            noise_dn: 3.0,
-            blur_sigma_px: 0.0,
-            white: 255,
-        },
-    };
+    let spot = flat(pt(40.2, 55.7), 180.0);
     let fix = locate(&render_flat_spot(&spot, 5).unwrap(), &SpotConfig::default());
     assert_eq!(fix.status, SpotStatus::Ok);
     assert_eq!(fix.saturated_px, 0);
@@ -294,4 +283,29 @@ fn tracker_follows_a_moving_spot_and_recovers_after_a_jump() {
     let c = pt(123.4, 111.1);
     let p = plane_with(480, 240, &[(c, 160.0)], 2.5, |_, _| 30.0, 2);
     assert!(dist(tracker.process(&p).position.unwrap(), c) < 0.1);
+}
+
+#[test]
+fn periodic_full_search_notices_a_second_spot() {
+    let config = SpotConfig {
+        full_search_every: 5,
+        ..SpotConfig::default()
+    };
+    let mut tracker = Tracker::new(config);
+    let (a, b) = (pt(60.2, 70.4), pt(400.7, 180.3));
+    let one = plane_with(480, 240, &[(a, 150.0)], 2.5, |_, _| 30.0, 11);
+    let two = plane_with(480, 240, &[(a, 150.0), (b, 150.0)], 2.5, |_, _| 30.0, 12);
+    assert_eq!(tracker.process(&one).status, SpotStatus::Ok);
+    // Tracking alone looks only near the first spot; within five frames a full search sees both.
+    let statuses: Vec<SpotStatus> = (0..6).map(|_| tracker.process(&two).status).collect();
+    assert!(statuses.contains(&SpotStatus::Ok), "{statuses:?}");
+    assert!(statuses.contains(&SpotStatus::Ambiguous), "{statuses:?}");
+    // Without the periodic search the tracker keeps following the first spot quietly.
+    let mut quiet = Tracker::new(SpotConfig::default());
+    quiet.process(&one);
+    for _ in 0..6 {
+        let fix = quiet.process(&two);
+        assert_eq!(fix.status, SpotStatus::Ok);
+        assert!(dist(fix.position.unwrap(), a) < 0.1);
+    }
 }

@@ -60,21 +60,36 @@ pub fn render_flat_spot(spot: &FlatSpot, seed: u64) -> Result<Plane, SynthError>
 mod tests {
     use super::*;
 
-    #[test]
-    fn noise_free_spot_has_its_peak_at_the_centre() {
-        let s = FlatSpot {
-            width: 21,
-            height: 15,
-            centre: PixelPoint { x: 10.0, y: 7.0 },
-            peak_dn: 100.0,
-            background_dn: 20.0,
-            sigma_px: 2.0,
+    fn spot(
+        w: usize,
+        h: usize,
+        centre: (f64, f64),
+        peak: f64,
+        bg: f64,
+        sigma: f64,
+        noise: f64,
+    ) -> FlatSpot {
+        FlatSpot {
+            width: w,
+            height: h,
+            centre: PixelPoint {
+                x: centre.0,
+                y: centre.1,
+            },
+            peak_dn: peak,
+            background_dn: bg,
+            sigma_px: sigma,
             sensor: Sensor {
-                noise_dn: 0.0,
+                noise_dn: noise,
                 blur_sigma_px: 0.0,
                 white: 255,
             },
-        };
+        }
+    }
+
+    #[test]
+    fn noise_free_spot_has_its_peak_at_the_centre() {
+        let s = spot(21, 15, (10.0, 7.0), 100.0, 20.0, 2.0, 0.0);
         let p = render_flat_spot(&s, 0).unwrap();
         assert_eq!(p.pixels[(7, 10)], 120);
         assert_eq!(p.pixels[(0, 0)], 20);
@@ -89,19 +104,7 @@ mod tests {
 
     #[test]
     fn same_seed_same_frame() {
-        let s = FlatSpot {
-            width: 32,
-            height: 32,
-            centre: PixelPoint { x: 15.3, y: 16.7 },
-            peak_dn: 180.0,
-            background_dn: 40.0,
-            sigma_px: 2.5,
-            sensor: Sensor {
-                noise_dn: 3.0,
-                blur_sigma_px: 0.0,
-                white: 255,
-            },
-        };
+        let s = spot(32, 32, (15.3, 16.7), 180.0, 40.0, 2.5, 3.0);
         assert_eq!(render_flat_spot(&s, 7), render_flat_spot(&s, 7));
         assert_ne!(render_flat_spot(&s, 7), render_flat_spot(&s, 8));
     }

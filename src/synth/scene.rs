@@ -142,33 +142,66 @@ impl RuledScreen {
         }
         Ok(())
     }
+}
 
-    fn width_of_line(&self, k: i64) -> f64 {
-        if self.major_every > 0 && k.rem_euclid(self.major_every as i64) == 0 {
-            self.major_width_mm
-        } else {
-            self.line_width_mm
+/// One family of ruling lines with everything the per-pixel loop needs precomputed.
+struct Ruling {
+    pitch: f64,
+    inv_pitch: f64,
+    minor_half: f64,
+    major_half: f64,
+    major_every: i64,
+    inv_major_every: f64,
+    widest: f64,
+}
+
+impl Ruling {
+    fn of(screen: &RuledScreen) -> Self {
+        Self {
+            pitch: screen.pitch_mm,
+            inv_pitch: 1.0 / screen.pitch_mm,
+            minor_half: 0.5 * screen.line_width_mm,
+            major_half: 0.5 * screen.major_width_mm,
+            major_every: screen.major_every as i64,
+            inv_major_every: if screen.major_every > 0 {
+                1.0 / screen.major_every as f64
+            } else {
+                0.0
+            },
+            widest: screen.line_width_mm.max(screen.major_width_mm),
         }
     }
 
-    /// Fraction of a box of width `s` centred at coordinate `c` (relative to the line origin) covered by
-    /// ink of one line family. `inv_pitch` is 1 / `pitch_mm`.
+    /// Half the width of line number k. k is a multiple of m exactly when m times the nearest integer
+    /// to k / m gives k back (a multiplication instead of an integer division in the per-pixel loop).
     #[inline]
-    fn line_cover(&self, c: f64, s: f64, inv_pitch: f64) -> f64 {
-        let k0 = round_to_i64(c * inv_pitch);
-        let d = c - k0 as f64 * self.pitch_mm;
-        let widest = self.line_width_mm.max(self.major_width_mm);
-        let half = 0.5 * self.width_of_line(k0);
+    fn half_width(&self, k: i64) -> f64 {
+        if self.major_every > 0
+            && round_to_i64(k as f64 * self.inv_major_every) * self.major_every == k
+        {
+            self.major_half
+        } else {
+            self.minor_half
+        }
+    }
+
+    /// Fraction of a box of width `s` (reciprocal `inv_s`) centred at coordinate `c` (relative to the
+    /// line origin) covered by ink of this family.
+    #[inline]
+    fn cover(&self, c: f64, s: f64, inv_s: f64) -> f64 {
+        let k0 = round_to_i64(c * self.inv_pitch);
+        let d = c - k0 as f64 * self.pitch;
+        let half = self.half_width(k0);
         let mut cover = overlap(d - 0.5 * s, d + 0.5 * s, -half, half);
         // Neighbouring lines matter only when the footprint is nearly as wide as the gap.
-        if s + widest > self.pitch_mm {
+        if s + self.widest > self.pitch {
             for k in [k0 - 1, k0 + 1] {
-                let half = 0.5 * self.width_of_line(k);
-                let dk = c - k as f64 * self.pitch_mm;
+                let half = self.half_width(k);
+                let dk = c - k as f64 * self.pitch;
                 cover += overlap(dk - 0.5 * s, dk + 0.5 * s, -half, half);
             }
         }
-        (cover / s).min(1.0)
+        (cover * inv_s).min(1.0)
     }
 }
 
@@ -258,19 +291,19 @@ fn draw_screen(scene: &Scene, hinv: &Matrix3<f64>, light: &mut [f32]) {
     let half_w = (w as f64 / 2.0).max(0.5);
     let half_h = (h as f64 / 2.0).max(0.5);
     let ink_loss = 1.0 - sc.ink_reflectance;
-    let inv_pitch = 1.0 / sc.pitch_mm;
+    let ruling = Ruling::of(sc);
     for yi in 0..h {
         let y = yi as f64;
         let v = (y - half_h) / half_h;
         let row = &mut light[yi * w..(yi + 1) * w];
         let (mut fx, mut fy) = (1.0, 1.0);
+        let (mut ifx, mut ify) = (1.0, 1.0);
         for (xi, out) in row.iter_mut().enumerate() {
             let x = xi as f64;
             let wz = hinv[(2, 0)] * x + hinv[(2, 1)] * y + hinv[(2, 2)];
             if wz.abs() < 1e-12 {
                 *out = il.ambient_dn as f32;
-                fx = 1.0;
-                fy = 1.0;
+                (fx, fy, ifx, ify) = (1.0, 1.0, 1.0, 1.0);
                 continue;
             }
             let iw = 1.0 / wz;
@@ -290,21 +323,23 @@ fn draw_screen(scene: &Scene, hinv: &Matrix3<f64>, light: &mut [f32]) {
                 );
                 fx = ((ax * ax + bx * bx).sqrt() * iw.abs()).max(1e-9);
                 fy = ((ay * ay + by * by).sqrt() * iw.abs()).max(1e-9);
+                ifx = 1.0 / fx;
+                ify = 1.0 / fy;
             }
             let in_x = if sx - fx > xmin && sx + fx < xmax {
                 1.0
             } else {
-                overlap(sx - 0.5 * fx, sx + 0.5 * fx, xmin, xmax) / fx
+                overlap(sx - 0.5 * fx, sx + 0.5 * fx, xmin, xmax) * ifx
             };
             let in_y = if sy - fy > ymin && sy + fy < ymax {
                 1.0
             } else {
-                overlap(sy - 0.5 * fy, sy + 0.5 * fy, ymin, ymax) / fy
+                overlap(sy - 0.5 * fy, sy + 0.5 * fy, ymin, ymax) * ify
             };
             let inside = in_x * in_y;
             let reflect = if inside > 0.0 {
-                let cx = sc.line_cover(sx - sc.origin.x_mm, fx, inv_pitch);
-                let cy = sc.line_cover(sy - sc.origin.y_mm, fy, inv_pitch);
+                let cx = ruling.cover(sx - sc.origin.x_mm, fx, ifx);
+                let cy = ruling.cover(sy - sc.origin.y_mm, fy, ify);
                 let ink = cx + cy - cx * cy;
                 inside * (1.0 - ink_loss * ink) + (1.0 - inside) * sc.surround_reflectance
             } else {
