@@ -1,5 +1,5 @@
 //! Reading point pairs from CSV: `x_px,y_px,x_mm,y_mm`, one pair a line, an optional header line with
-//! those names, `#` comments and blank lines allowed. Every error names the file and line.
+//! those names, `#` comment lines and blank lines allowed. Every error names the file and line.
 
 use super::homography::PointPair;
 use super::CalibError;
@@ -25,23 +25,19 @@ pub fn parse_pairs(text: &str, path: &Path) -> Result<Vec<PointPair>, CalibError
         line,
         message,
     };
-    let mut rdr = csv::ReaderBuilder::new()
-        .has_headers(false)
-        .flexible(true)
-        .comment(Some(b'#'))
-        .trim(csv::Trim::All)
-        .from_reader(text.as_bytes());
     let mut out = Vec::new();
     let mut first = true;
-    for rec in rdr.records() {
-        let rec = rec.map_err(|e| {
-            let line = e.position().map(|p| p.line() as usize).unwrap_or(0);
-            err(line, format!("cannot read the CSV: {e}"))
-        })?;
-        let line = rec.position().map(|p| p.line() as usize).unwrap_or(0);
-        if rec.iter().all(|f| f.is_empty()) {
+    // Lines are handled here (not by a CSV reader) so that comments and blank lines keep the numbering.
+    for (k, raw) in text.lines().enumerate() {
+        let line = k + 1;
+        let body = raw.trim();
+        if body.is_empty() || body.starts_with('#') {
             continue;
         }
+        let rec: Vec<&str> = body
+            .split(',')
+            .map(|f| f.trim().trim_matches('"').trim())
+            .collect();
         if first {
             first = false;
             let names: Vec<String> = rec.iter().map(|f| f.to_ascii_lowercase()).collect();
@@ -51,7 +47,7 @@ pub fn parse_pairs(text: &str, path: &Path) -> Result<Vec<PointPair>, CalibError
                         line,
                         format!(
                             "header is {:?}; expected exactly {}",
-                            rec.iter().collect::<Vec<_>>().join(","),
+                            rec.join(","),
                             COLUMNS.join(",")
                         ),
                     ));

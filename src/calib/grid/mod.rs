@@ -13,8 +13,9 @@
 pub mod period;
 pub mod refine;
 
-use super::homography::{fit_all, PointPair};
+use super::homography::{fit_robust, PointPair, RobustOptions};
 use super::CalibError;
+use crate::frame::Plane;
 use crate::units::{PixelPoint, ScreenPoint};
 use image::{ImageBuffer, Luma};
 use std::collections::{HashMap, VecDeque};
@@ -150,9 +151,33 @@ struct Node {
     v: P,
 }
 
-/// Find the grid, index its intersections and give each its screen position in mm.
+/// Find the grid in a float image (0 = black, 1 = white) and give each intersection its screen
+/// position in mm; `name` is used in messages.
 pub fn detect(
     img: &ImageBuffer<Luma<f32>, Vec<f32>>,
+    name: &str,
+    pitch_mm: f64,
+    origin: Option<PixelPoint>,
+) -> Result<GridDetection, CalibError> {
+    detect_gray(&Gray::from_image(img), name, pitch_mm, origin)
+}
+
+/// Find the grid in a frame's pixel plane.
+pub fn detect_plane(
+    plane: &Plane,
+    name: &str,
+    pitch_mm: f64,
+    origin: Option<PixelPoint>,
+) -> Result<GridDetection, CalibError> {
+    let white = plane.white.max(1) as f32;
+    let data = plane.pixels.iter().map(|&v| v as f32 / white).collect();
+    let gray = Gray::new(plane.width(), plane.height(), data);
+    detect_gray(&gray, name, pitch_mm, origin)
+}
+
+/// Find the grid, index its intersections and give each its screen position in mm.
+pub fn detect_gray(
+    gray: &Gray,
     name: &str,
     pitch_mm: f64,
     origin: Option<PixelPoint>,
@@ -161,7 +186,6 @@ pub fn detect(
         image: name.to_string(),
         reason,
     };
-    let gray = Gray::from_image(img);
     if gray.w < 16 || gray.h < 16 {
         return Err(fail(format!("the image is only {}x{} px", gray.w, gray.h)));
     }
@@ -174,7 +198,7 @@ pub fn detect(
             hint.0, hint.1, gray.w, gray.h
         )));
     }
-    let d = darkness(&gray);
+    let d = darkness(gray);
     let n = 256.min(gray.w).min(gray.h);
     let per = period::lattice(&d, hint.0, hint.1, n).ok_or_else(|| {
         fail(
@@ -240,6 +264,11 @@ pub fn detect(
             v: per.v,
         },
     );
+    // Occupied places, on cells of half a spacing, so that no place gets two lattice indices.
+    let cell = 0.5 * spacing;
+    let cell_of = |p: P| ((p.0 / cell).floor() as i64, (p.1 / cell).floor() as i64);
+    let mut taken: HashMap<(i64, i64), P> = HashMap::new();
+    taken.insert(cell_of(seed), seed);
     let mut queue = VecDeque::from([(0i32, 0i32)]);
     let max_nodes = 40_000;
     while let Some(key) = queue.pop_front() {
@@ -284,6 +313,32 @@ pub fn detect(
             if norm((q.0 - pred.0, q.1 - pred.1)) > 0.35 * norm(step) {
                 continue;
             }
+            // Every other known neighbour must agree on where this intersection is (stops row slips).
+            let disagree = [(1, 0), (-1, 0), (0, 1), (0, -1)].iter().any(|&(a, b)| {
+                let k2 = (nk.0 + a, nk.1 + b);
+                if k2 == key {
+                    return false;
+                }
+                nodes.get(&k2).is_some_and(|o| {
+                    let e = (
+                        o.p.0 - a as f64 * o.u.0 - b as f64 * o.v.0,
+                        o.p.1 - a as f64 * o.u.1 - b as f64 * o.v.1,
+                    );
+                    norm((q.0 - e.0, q.1 - e.1)) > 0.3 * norm(step)
+                })
+            });
+            if disagree {
+                continue;
+            }
+            let (cx, cy) = cell_of(q);
+            let clash = (cx - 1..=cx + 1)
+                .flat_map(|a| (cy - 1..=cy + 1).map(move |b| (a, b)))
+                .filter_map(|k| taken.get(&k))
+                .any(|o| norm((o.0 - q.0, o.1 - q.1)) < 0.5 * norm(step));
+            if clash {
+                continue;
+            }
+            taken.insert((cx, cy), q);
             nodes.insert(nk, Node { p: q, u: nu, v: nv });
             queue.push_back(nk);
         }
@@ -340,21 +395,22 @@ pub fn detect(
             label: format!("grid ({gx}, {gy})"),
         })
         .collect();
-    // The intersections must sit on a square grid seen in perspective.
-    let fit = fit_all(&pairs)?;
-    let bad = fit
-        .residual_px
-        .iter()
-        .filter(|&&e| e > 0.25 * spacing)
-        .count();
-    if bad * 10 > pairs.len() {
+    // The intersections must sit on a square grid seen in perspective: keep the largest consistent set
+    // (a patch where the growth slipped a line is left out), refuse when that is not most of them.
+    let opts = RobustOptions {
+        threshold_px: 0.25 * spacing,
+        ..RobustOptions::default()
+    };
+    let fit = fit_robust(&pairs, &opts)?;
+    if fit.used.len() * 2 < pairs.len() {
         return Err(fail(format!(
-            "inconsistent pitch: {bad} of {} intersections are more than a quarter of a spacing off a \
-             square grid seen in perspective (RMS {:.2} px); is the grid printed evenly and flat?",
-            pairs.len(),
-            fit.rms_px()
+            "inconsistent pitch: only {} of {} intersections lie within a quarter of a spacing of one \
+             square grid seen in perspective; is the grid printed evenly and flat?",
+            fit.used.len(),
+            pairs.len()
         )));
     }
+    let pairs: Vec<PointPair> = fit.used.iter().map(|&i| pairs[i].clone()).collect();
     let (nx, ny) = if u_is_x {
         (is.len(), js.len())
     } else {

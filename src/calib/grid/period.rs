@@ -141,7 +141,7 @@ pub fn lattice(img: &Gray, cx: f64, cy: f64, n: usize) -> Option<Period> {
     if top <= 0.0 {
         return None;
     }
-    let strong: Vec<_> = peaks.iter().filter(|p| p.2 > 0.5 * top).collect();
+    let strong: Vec<_> = peaks.iter().filter(|p| p.2 > 0.75 * top).collect();
     let len = |p: &(f64, f64, f64)| (p.0 * p.0 + p.1 * p.1).sqrt();
     let u = strong.iter().min_by(|a, b| len(a).total_cmp(&len(b)))?;
     let v = strong

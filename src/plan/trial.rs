@@ -1,0 +1,279 @@
+//! Fibre trials: the torsion constant and shear modulus of a trial fibre from the period of a test body
+//! of known moment of inertia hung on it (`kappa = I (2 pi / T)^2`, then `G_s = kappa l / factor` with the
+//! section's torsion factor), with uncertainties.
+//!
+//! A trial file holds one `[[trial]]` table per fibre: the fibre keys of [`crate::plan::fibre`] plus
+//! `name`, `inertia` (the test body about the fibre axis) and either `period` or `track` (a track CSV whose
+//! swing is fitted for the period).
+
+use crate::physics;
+use crate::plan::fibre::{section_factor, Fibre};
+use crate::plan::propagate::propagate;
+use crate::plan::PlanError;
+use crate::units::{parse_quantity, Dimension, Measured};
+use serde::Deserialize;
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+
+/// One trial as read from the file.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TrialInput {
+    pub name: String,
+    pub fibre: Fibre,
+    /// Test body's moment of inertia about the fibre, kg m^2.
+    pub inertia: Measured,
+    pub period: PeriodSource,
+}
+
+/// Where a trial's period comes from.
+#[derive(Debug, Clone, PartialEq)]
+pub enum PeriodSource {
+    Given(Measured),
+    /// A track CSV to fit (path resolved against the trial file's folder).
+    Track(PathBuf),
+}
+
+/// A trial's result.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct TrialResult {
+    pub name: String,
+    pub material: String,
+    pub section: String,
+    pub length_m: Measured,
+    pub inertia_kg_m2: Measured,
+    pub period_s: Measured,
+    #[serde(rename = "kappa_N_m_per_rad")]
+    pub kappa_n_m_per_rad: Measured,
+    #[serde(rename = "shear_modulus_Pa")]
+    pub shear_modulus_pa: Measured,
+    /// Table (or overridden) shear modulus of the named material, Pa.
+    #[serde(rename = "expected_shear_modulus_Pa")]
+    pub expected_shear_modulus_pa: f64,
+    /// Measured over expected shear modulus.
+    pub ratio_to_table: f64,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawTrials {
+    trial: Vec<BTreeMap<String, toml::Value>>,
+}
+
+/// Read a trial file.
+pub fn read_trials(path: &Path) -> Result<Vec<TrialInput>, PlanError> {
+    let text = std::fs::read_to_string(path).map_err(|e| {
+        PlanError::Input(format!(
+            "{}: cannot read the trial file: {e}",
+            path.display()
+        ))
+    })?;
+    parse_trials(&text, path)
+}
+
+/// Parse trial-file text; `path` names the file in messages and resolves track paths.
+pub fn parse_trials(text: &str, path: &Path) -> Result<Vec<TrialInput>, PlanError> {
+    let raw: RawTrials = toml::from_str(text).map_err(|e| {
+        PlanError::Input(format!(
+            "{}: {} (a trial file is a list of [[trial]] tables)",
+            path.display(),
+            e.to_string().trim_end()
+        ))
+    })?;
+    if raw.trial.is_empty() {
+        return Err(PlanError::Input(format!(
+            "{}: no [[trial]] tables",
+            path.display()
+        )));
+    }
+    let dir = path.parent().unwrap_or(Path::new("."));
+    let mut out = Vec::new();
+    for (i, t) in raw.trial.iter().enumerate() {
+        let table = format!("trial {}", i + 1);
+        let err = |message: String| PlanError::Fibre {
+            path: path.to_path_buf(),
+            table: table.clone(),
+            message,
+        };
+        let fibre = Fibre::from_table(t, path, &table, &["name", "inertia", "period", "track"])?;
+        let text_of = |key: &str| -> Result<Option<String>, PlanError> {
+            match t.get(key) {
+                None => Ok(None),
+                Some(toml::Value::String(s)) => Ok(Some(s.clone())),
+                Some(v) => Err(err(format!("{key} must be a quoted string (got {v})"))),
+            }
+        };
+        let name = text_of("name")?.unwrap_or_else(|| format!("trial {}", i + 1));
+        let positive = |key: &str, dim| -> Result<Option<Measured>, PlanError> {
+            let Some(s) = text_of(key)? else {
+                return Ok(None);
+            };
+            let (m, _) = parse_quantity(&s, dim).map_err(|e| err(format!("{key}: {e}")))?;
+            if m.value <= 0.0 {
+                return Err(err(format!("{key} must be greater than zero (got {s:?})")));
+            }
+            Ok(Some(m))
+        };
+        let inertia = positive("inertia", Dimension::Inertia)?.ok_or_else(|| {
+            err("inertia (the test body's moment of inertia about the fibre) is missing".into())
+        })?;
+        let period = match (positive("period", Dimension::Time)?, text_of("track")?) {
+            (Some(p), None) => PeriodSource::Given(p),
+            (None, Some(track)) => PeriodSource::Track(dir.join(track)),
+            (Some(_), Some(_)) => return Err(err("give either period or track, not both".into())),
+            (None, None) => {
+                return Err(err(
+                    "the period is missing: give period = \"T ± u s\" or track = \"file.csv\""
+                        .into(),
+                ))
+            }
+        };
+        out.push(TrialInput {
+            name,
+            fibre,
+            inertia,
+            period,
+        });
+    }
+    Ok(out)
+}
+
+/// Evaluate one trial given its period.
+pub fn evaluate(input: &TrialInput, period: Measured) -> Result<TrialResult, PlanError> {
+    if !(period.value > 0.0 && period.value.is_finite()) {
+        return Err(PlanError::Input(format!(
+            "{}: the period must be a positive number of seconds (got {})",
+            input.name, period.value
+        )));
+    }
+    let f = &input.fibre;
+    let mut inputs: Vec<(String, Measured)> = vec![
+        ("inertia".into(), input.inertia),
+        ("period".into(), period),
+        ("length".into(), f.length),
+    ];
+    for (n, m) in f.section.inputs() {
+        inputs.push((n.into(), m));
+    }
+    let kappa_of = |x: &[f64]| physics::torsion_constant(x[0], 2.0 * std::f64::consts::PI / x[1]);
+    let kappa = propagate(&inputs, kappa_of).value;
+    let section = f.section;
+    let g = propagate(&inputs, |x| {
+        kappa_of(x) * x[2] / section_factor(&section.with_values(&x[3..]))
+    })
+    .value;
+    Ok(TrialResult {
+        name: input.name.clone(),
+        material: f.material.clone(),
+        section: f.section.describe(),
+        length_m: f.length,
+        inertia_kg_m2: input.inertia,
+        period_s: period,
+        kappa_n_m_per_rad: kappa,
+        shear_modulus_pa: g,
+        expected_shear_modulus_pa: f.shear_modulus.value,
+        ratio_to_table: g.value / f.shear_modulus.value,
+    })
+}
+
+/// Write trial results as CSV (one row per trial), values SI with their standard uncertainties.
+pub fn write_csv(path: &Path, results: &[TrialResult]) -> Result<(), PlanError> {
+    let io = |e: &dyn std::fmt::Display| {
+        PlanError::Input(format!("{}: cannot write: {e}", path.display()))
+    };
+    let mut w = csv::Writer::from_path(path).map_err(|e| io(&e))?;
+    w.write_record([
+        "name",
+        "material",
+        "section",
+        "length_m",
+        "u_length_m",
+        "inertia_kg_m2",
+        "u_inertia_kg_m2",
+        "period_s",
+        "u_period_s",
+        "kappa_N_m_per_rad",
+        "u_kappa_N_m_per_rad",
+        "shear_modulus_Pa",
+        "u_shear_modulus_Pa",
+        "table_shear_modulus_Pa",
+        "ratio_to_table",
+    ])
+    .map_err(|e| io(&e))?;
+    for r in results {
+        let mut rec = vec![r.name.clone(), r.material.clone(), r.section.clone()];
+        for m in [
+            r.length_m,
+            r.inertia_kg_m2,
+            r.period_s,
+            r.kappa_n_m_per_rad,
+            r.shear_modulus_pa,
+        ] {
+            rec.push(format!("{:e}", m.value));
+            rec.push(format!("{:e}", m.u));
+        }
+        rec.push(format!("{:e}", r.expected_shear_modulus_pa));
+        rec.push(format!("{:.6}", r.ratio_to_table));
+        w.write_record(&rec).map_err(|e| io(&e))?;
+    }
+    w.flush().map_err(|e| io(&e))
+}
+
+/// The natural period of a free swing recorded in a track CSV: the spot's position along the scale
+/// (`x_mm` when the track has screen positions, otherwise the image's `x_px`; the period does not
+/// depend on the scale) goes through the analyzer's spectrum for a starting frequency and its damped
+/// sinusoid fit, `T_0 = 2 pi / omega_0`. A linear drift is fitted alongside.
+pub fn period_from_track(path: &Path) -> Result<Measured, PlanError> {
+    use crate::analysis::{damped, period};
+    let shown = path.display();
+    let track = crate::export::track_csv::read_track(path)
+        .map_err(|e| PlanError::Input(format!("{shown}: {e}")))?;
+    let mut t = Vec::new();
+    let mut y = Vec::new();
+    for r in &track.rows {
+        if !r.fix.status.has_position() {
+            continue;
+        }
+        let v = match (track.has_mm, r.screen, r.fix.position) {
+            (true, Some(s), _) => s.x_mm,
+            (_, _, Some(p)) => p.x,
+            _ => continue,
+        };
+        if v.is_finite() && r.t.0.is_finite() {
+            t.push(r.t.0);
+            y.push(v);
+        }
+    }
+    if t.len() < 32 {
+        return Err(PlanError::Input(format!(
+            "{shown}: only {} rows with a spot position; a period fit needs at least 32 covering a few swings",
+            t.len()
+        )));
+    }
+    let spec = period::spectrum(&t, &y, &period::SpectrumOptions::default())
+        .map_err(|e| PlanError::Input(format!("{shown}: {e}")))?;
+    let (t0, t1) = (t[0], t[t.len() - 1]);
+    if t1 - t0 < 1.5 * spec.period() {
+        return Err(PlanError::Input(format!(
+            "{shown}: the track covers {:.1} s, less than 1.5 periods (about {:.1} s); record longer",
+            t1 - t0,
+            spec.period()
+        )));
+    }
+    let fit = damped::fit_damped(
+        &t,
+        &y,
+        t0,
+        0.5 * (t0 + t1),
+        2.0 * std::f64::consts::PI / spec.period(),
+        true,
+    )
+    .map_err(|e| PlanError::Input(format!("{shown}: the damped fit failed: {e}")))?;
+    let (w0, uw) = fit.omega0();
+    let period = 2.0 * std::f64::consts::PI / w0;
+    if !(period.is_finite() && period > 0.0) {
+        return Err(PlanError::Input(format!(
+            "{shown}: the fit gave no usable frequency"
+        )));
+    }
+    Ok(Measured::new(period, period * uw / w0))
+}
