@@ -33,13 +33,17 @@ fn natural_order_and_times_csv() {
     let v = deliveries(d.path(), &OpenOptions::default());
     assert_eq!(v.len(), 12);
     for (i, dl) in v.iter().enumerate() {
-        let Delivery::Frame(f) = dl else { panic!("frame {i} unreadable") };
+        let Delivery::Frame(f) = dl else {
+            panic!("frame {i} unreadable")
+        };
         assert_eq!(f.index, i as u64);
         assert!(f.origin.ends_with(&format!("img{i}.png")), "{}", f.origin);
         assert_eq!(f.t, Seconds(i as f64 / 4.0));
     }
     // The frames really are the rendered ones: the spot's peak sits at the rendered centre.
-    let Delivery::Frame(f) = &v[10] else { unreachable!() };
+    let Delivery::Frame(f) = &v[10] else {
+        unreachable!()
+    };
     let (cx, cy) = truth[10];
     let p = f.plane.pixels[(cy.round() as usize, cx.round() as usize)];
     assert!(p > 150, "peak {p}");
@@ -51,7 +55,13 @@ fn fps_when_no_times_file_and_error_when_neither() {
     write_png_frames(d.path(), 3, 32, 24);
     let e = err(d.path(), &OpenOptions::default());
     assert!(e.contains("--times") && e.contains("--fps"), "{e}");
-    let v = deliveries(d.path(), &OpenOptions { fps: Some(2.0), ..Default::default() });
+    let v = deliveries(
+        d.path(),
+        &OpenOptions {
+            fps: Some(2.0),
+            ..Default::default()
+        },
+    );
     let Delivery::Frame(f) = &v[2] else { panic!() };
     assert_eq!(f.t, Seconds(1.0));
 }
@@ -62,7 +72,13 @@ fn glob_pattern_selects_files() {
     write_png_frames(d.path(), 5, 32, 24);
     std::fs::write(d.path().join("notes.txt"), "x").unwrap();
     let pattern = d.path().join("img*.png");
-    let v = deliveries(&pattern, &OpenOptions { fps: Some(1.0), ..Default::default() });
+    let v = deliveries(
+        &pattern,
+        &OpenOptions {
+            fps: Some(1.0),
+            ..Default::default()
+        },
+    );
     assert_eq!(v.len(), 5);
 }
 
@@ -72,7 +88,11 @@ fn every_keeps_one_frame_per_interval_without_decoding_the_rest() {
     write_png_frames(d.path(), 20, 32, 24);
     // Corrupt a frame that --every 1 skips: it must not matter.
     std::fs::write(d.path().join("img5.png"), b"not a png").unwrap();
-    let o = OpenOptions { fps: Some(4.0), every: Some(Seconds(1.0)), ..Default::default() };
+    let o = OpenOptions {
+        fps: Some(4.0),
+        every: Some(Seconds(1.0)),
+        ..Default::default()
+    };
     let idx: Vec<u64> = deliveries(d.path(), &o)
         .iter()
         .map(|d| match d {
@@ -92,7 +112,14 @@ fn red_channel_of_a_colour_image() {
     }
     img.save(d.path().join("a.png")).unwrap();
     let get = |c| {
-        let v = deliveries(d.path(), &OpenOptions { fps: Some(1.0), channel: c, ..Default::default() });
+        let v = deliveries(
+            d.path(),
+            &OpenOptions {
+                fps: Some(1.0),
+                channel: c,
+                ..Default::default()
+            },
+        );
         let Delivery::Frame(f) = &v[0] else { panic!() };
         f.plane.pixels[(3, 3)]
     };
@@ -109,7 +136,13 @@ fn corrupt_image_in_the_middle_is_unreadable_and_the_run_goes_on() {
     write_png_frames(d.path(), 6, 32, 24);
     let bytes = std::fs::read(d.path().join("img3.png")).unwrap();
     std::fs::write(d.path().join("img3.png"), &bytes[..bytes.len() / 2]).unwrap();
-    let v = deliveries(d.path(), &OpenOptions { fps: Some(1.0), ..Default::default() });
+    let v = deliveries(
+        d.path(),
+        &OpenOptions {
+            fps: Some(1.0),
+            ..Default::default()
+        },
+    );
     assert_eq!(v.len(), 6);
     match &v[3] {
         Delivery::Unreadable { index, origin, .. } => {
@@ -125,27 +158,56 @@ fn corrupt_image_in_the_middle_is_unreadable_and_the_run_goes_on() {
 fn mixed_sizes_name_the_first_offending_file() {
     let d = tempfile::tempdir().unwrap();
     write_png_frames(d.path(), 4, 32, 24);
-    image::GrayImage::new(30, 24).save(d.path().join("img2.png")).unwrap();
-    image::GrayImage::new(31, 24).save(d.path().join("img3.png")).unwrap();
-    let e = err(d.path(), &OpenOptions { fps: Some(1.0), ..Default::default() });
-    assert!(e.contains("img2.png") && e.contains("30x24") && e.contains("32x24"), "{e}");
+    image::GrayImage::new(30, 24)
+        .save(d.path().join("img2.png"))
+        .unwrap();
+    image::GrayImage::new(31, 24)
+        .save(d.path().join("img3.png"))
+        .unwrap();
+    let e = err(
+        d.path(),
+        &OpenOptions {
+            fps: Some(1.0),
+            ..Default::default()
+        },
+    );
+    assert!(
+        e.contains("img2.png") && e.contains("30x24") && e.contains("32x24"),
+        "{e}"
+    );
 }
 
 #[test]
 fn bad_times_files_name_the_line() {
     let d = tempfile::tempdir().unwrap();
     write_png_frames(d.path(), 3, 32, 24);
-    std::fs::write(d.path().join("times.csv"), "file,t_s\nimg0.png,0\nimg1.png,1\nimg2.png,0.5\n").unwrap();
+    std::fs::write(
+        d.path().join("times.csv"),
+        "file,t_s\nimg0.png,0\nimg1.png,1\nimg2.png,0.5\n",
+    )
+    .unwrap();
     let e = err(d.path(), &OpenOptions::default());
     assert!(e.contains("times.csv, line 4"), "{e}");
-    std::fs::write(d.path().join("times.csv"), "file,t_s\nimg0.png,0\nimg1.png,1s\nimg2.png,2\n").unwrap();
+    std::fs::write(
+        d.path().join("times.csv"),
+        "file,t_s\nimg0.png,0\nimg1.png,1s\nimg2.png,2\n",
+    )
+    .unwrap();
     let e = err(d.path(), &OpenOptions::default());
     assert!(e.contains("line 3") && e.contains("1s"), "{e}");
     // Increasing by row, but against file-name order.
-    std::fs::write(d.path().join("times.csv"), "file,t_s\nimg1.png,0\nimg0.png,1\nimg2.png,2\n").unwrap();
+    std::fs::write(
+        d.path().join("times.csv"),
+        "file,t_s\nimg1.png,0\nimg0.png,1\nimg2.png,2\n",
+    )
+    .unwrap();
     let e = err(d.path(), &OpenOptions::default());
     assert!(e.contains("line 2") && e.contains("img1.png"), "{e}");
-    std::fs::write(d.path().join("times.csv"), "file,t_s\nimg0.png,0\nimg1.png,1\n").unwrap();
+    std::fs::write(
+        d.path().join("times.csv"),
+        "file,t_s\nimg0.png,0\nimg1.png,1\n",
+    )
+    .unwrap();
     let e = err(d.path(), &OpenOptions::default());
     assert!(e.contains("no time for img2.png"), "{e}");
 }

@@ -120,20 +120,31 @@ fn ffmpeg_path_reads_default_x264_clip_with_b_frames_like_the_pngs() {
         has_b_frames(&clip),
         "libx264 defaults should have produced B-frames"
     );
-    let (frames, err) = frames_of(&clip, &opts(VideoDecoder::Ffmpeg));
+    check_against_pngs(
+        d.path(),
+        &clip,
+        n,
+        VideoDecoder::Ffmpeg,
+        "ffmpeg path, default x264",
+    );
+}
+
+/// Decode `clip`, check frame indices and 10 fps times, and compare positions with the PNGs.
+fn check_against_pngs(dir: &Path, clip: &Path, n: usize, decoder: VideoDecoder, label: &str) {
+    let (frames, err) = frames_of(clip, &opts(decoder));
     assert!(err.is_none(), "{err:?}");
     assert_eq!(frames.len(), n);
     for (i, f) in frames.iter().enumerate() {
         assert_eq!(f.index, i as u64);
-        // 10 fps in a 1/10240 s time base: times are exact multiples of 0.1 s up to float rounding.
+        // 10 fps in an integer time base: times are multiples of 0.1 s up to float rounding.
         assert!(
             (f.t.0 - i as f64 * 0.1).abs() < 1e-9,
             "frame {i} at {}",
             f.t.0
         );
     }
-    let (rms, codec) = compare(d.path(), &frames);
-    eprintln!("ffmpeg path, default x264: RMS position difference {rms:.4} px; codec loss explains {codec:.4} px");
+    let (rms, codec) = compare(dir, &frames);
+    eprintln!("{label}: RMS position difference {rms:.4} px; codec loss explains {codec:.4} px");
     assert!(rms <= 0.1 + codec, "RMS {rms} px > 0.1 + {codec}");
 }
 
@@ -142,20 +153,13 @@ fn builtin_path_reads_committed_baseline_clip_like_the_pngs() {
     let d = tempfile::tempdir().unwrap();
     let n = 30;
     write_png_frames(d.path(), n, W, H);
-    let (frames, err) = frames_of(&committed_clip(), &opts(VideoDecoder::Builtin));
-    assert!(err.is_none(), "{err:?}");
-    assert_eq!(frames.len(), n);
-    for (i, f) in frames.iter().enumerate() {
-        assert_eq!(f.index, i as u64);
-        assert!(
-            (f.t.0 - i as f64 * 0.1).abs() < 1e-9,
-            "frame {i} at {}",
-            f.t.0
-        );
-    }
-    let (rms, codec) = compare(d.path(), &frames);
-    eprintln!("built-in path, Baseline clip: RMS position difference {rms:.4} px; codec loss explains {codec:.4} px");
-    assert!(rms <= 0.1 + codec, "RMS {rms} px > 0.1 + {codec}");
+    check_against_pngs(
+        d.path(),
+        &committed_clip(),
+        n,
+        VideoDecoder::Builtin,
+        "built-in path, Baseline clip",
+    );
 }
 
 #[test]
@@ -238,6 +242,10 @@ fn every_decodes_only_key_frames_and_keeps_the_same_frames() {
         // Key frames decode without reference to other frames, so the pictures are identical.
         assert_eq!(f.plane, full.plane, "frame {}", f.index);
     }
+    // And so are the tracked positions of the kept frames.
+    let thinned: Vec<&Plane> = kept.iter().map(|f| &f.plane).collect();
+    let from_full: Vec<&Plane> = kept.iter().map(|f| &all[f.index as usize].plane).collect();
+    assert_eq!(track_positions(&thinned), track_positions(&from_full));
 }
 
 #[test]

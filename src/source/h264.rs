@@ -61,18 +61,42 @@ fn container_guess(path: &Path) -> (String, String) {
     ("unknown container".into(), "codec not read".into())
 }
 
+/// End of the last complete top-level box. A recording cut short ends inside its media-data box;
+/// the index before it still locates the frames that were written, so the header is read only up
+/// to that box (ISO/IEC 14496-12 §4.2: 32-bit size, 1 = 64-bit size follows, 0 = to end of file).
+fn complete_boxes_end(file: &mut BufReader<File>, len: u64) -> u64 {
+    use std::io::{Seek, SeekFrom};
+    let mut at = 0u64;
+    let end = loop {
+        if at + 8 > len || file.seek(SeekFrom::Start(at)).is_err() {
+            break at.min(len);
+        }
+        let mut h = [0u8; 16];
+        if file.read_exact(&mut h[..8]).is_err() {
+            break at;
+        }
+        let mut size = u32::from_be_bytes([h[0], h[1], h[2], h[3]]) as u64;
+        if size == 1 {
+            if file.read_exact(&mut h[8..16]).is_err() {
+                break at;
+            }
+            size = u64::from_be_bytes([h[8], h[9], h[10], h[11], h[12], h[13], h[14], h[15]]);
+        } else if size == 0 {
+            size = len - at;
+        }
+        if size < 8 || at + size > len {
+            break at;
+        }
+        at += size;
+    };
+    let _ = file.seek(SeekFrom::Start(0));
+    end
+}
+
 impl BuiltinH264Source {
     pub fn open(path: &Path, opts: &OpenOptions) -> Result<Self, SourceError> {
         let shown = path.display().to_string();
-        let file = File::open(path).map_err(|source| match source.kind() {
-            std::io::ErrorKind::NotFound => SourceError::Missing {
-                path: shown.clone(),
-            },
-            _ => SourceError::Io {
-                path: shown.clone(),
-                source,
-            },
-        })?;
+        let file = File::open(path).map_err(|e| SourceError::from_io(path, e))?;
         let size = file
             .metadata()
             .map_err(|source| SourceError::Io {
@@ -87,7 +111,9 @@ impl BuiltinH264Source {
             advice: format!("{why}; the built-in reader handles only MP4 with H.264 without B-frames: {INSTALL_FFMPEG}"),
         }
         };
-        let reader = match mp4::Mp4Reader::read_header(BufReader::new(file), size) {
+        let mut file = BufReader::new(file);
+        let size = complete_boxes_end(&mut file, size);
+        let reader = match mp4::Mp4Reader::read_header(file, size) {
             Ok(r) => r,
             Err(e) => {
                 let (container, codec) = container_guess(path);

@@ -93,6 +93,17 @@ pub enum SourceError {
     },
 }
 
+impl SourceError {
+    /// An error opening or reading `path`: `Missing` when it does not exist.
+    pub(crate) fn from_io(path: &Path, source: std::io::Error) -> Self {
+        let path = path.display().to_string();
+        match source.kind() {
+            std::io::ErrorKind::NotFound => SourceError::Missing { path },
+            _ => SourceError::Io { path, source },
+        }
+    }
+}
+
 /// Anything that produces frames in time order.
 pub trait FrameSource {
     /// What the source is, as far as it knows before reading.

@@ -1,0 +1,123 @@
+//! Video decoding speed: `--every 1` (key frames only) against decoding every frame with ffmpeg's
+//! own threads, on a 30 fps 1920x1080 clip with one key frame per second at about 16 Mbit/s,
+//! generated at bench time with ffmpeg/libx264 (sensor-like temporal noise on a test pattern, so
+//! P-frames carry most of the bits as in a real recording; the key-frame share is printed).
+//!
+//! Run: `cargo bench --bench decode`. Skips (with a message) when ffmpeg is not on PATH.
+
+use criterion::{criterion_group, criterion_main, Criterion};
+use spotlever::source::{ffmpeg_available, open, Delivery, OpenOptions, VideoDecoder};
+use spotlever::units::Seconds;
+use std::path::{Path, PathBuf};
+use std::process::Command;
+use std::time::Duration;
+
+const SECONDS: u32 = 6;
+
+fn make_clip(dir: &Path) -> PathBuf {
+    let clip = dir.join("bench_1080p30_g30.mp4");
+    let t = SECONDS.to_string();
+    let status = Command::new("ffmpeg")
+        .args([
+            "-hide_banner",
+            "-loglevel",
+            "error",
+            "-y",
+            "-f",
+            "lavfi",
+            "-i",
+        ])
+        .arg("testsrc2=size=1920x1080:rate=30,noise=alls=8:allf=t")
+        .args([
+            "-t", &t, "-c:v", "libx264", "-preset", "veryfast", "-b:v", "16M", "-maxrate", "16M",
+        ])
+        .args([
+            "-bufsize",
+            "32M",
+            "-g",
+            "30",
+            "-keyint_min",
+            "30",
+            "-sc_threshold",
+            "0",
+        ])
+        .args(["-pix_fmt", "yuv420p"])
+        .arg(&clip)
+        .status()
+        .expect("run ffmpeg");
+    assert!(status.success(), "ffmpeg could not make the bench clip");
+    clip
+}
+
+fn key_share(clip: &Path) -> f64 {
+    let out = Command::new("ffprobe")
+        .args([
+            "-v",
+            "error",
+            "-select_streams",
+            "v:0",
+            "-show_entries",
+            "packet=size,flags",
+            "-of",
+            "csv=p=0",
+        ])
+        .arg(clip)
+        .output()
+        .expect("ffprobe");
+    let (mut all, mut key) = (0.0, 0.0);
+    for l in String::from_utf8_lossy(&out.stdout).lines() {
+        let mut c = l.split(',');
+        let size: f64 = c.next().and_then(|s| s.parse().ok()).unwrap_or(0.0);
+        all += size;
+        if c.next().is_some_and(|f| f.contains('K')) {
+            key += size;
+        }
+    }
+    key / all
+}
+
+fn drain(clip: &Path, every: Option<Seconds>) -> u64 {
+    let opts = OpenOptions {
+        every,
+        decoder: VideoDecoder::Ffmpeg,
+        ..OpenOptions::default()
+    };
+    let mut src = open(clip, &opts).expect("open bench clip");
+    let mut n = 0;
+    while let Some(d) = src.next_delivery() {
+        if let Ok(Delivery::Frame(_)) = d {
+            n += 1;
+        }
+    }
+    n
+}
+
+fn bench(c: &mut Criterion) {
+    if !ffmpeg_available() {
+        eprintln!("SKIP decode benchmark: ffmpeg not on PATH");
+        return;
+    }
+    let dir = tempfile::tempdir().expect("temp dir");
+    let clip = make_clip(dir.path());
+    let bytes = std::fs::metadata(&clip).map(|m| m.len()).unwrap_or(0);
+    eprintln!(
+        "bench clip: {:.1} Mbit/s, key frames hold {:.0}% of the bits",
+        bytes as f64 * 8.0 / SECONDS as f64 / 1e6,
+        100.0 * key_share(&clip)
+    );
+    assert_eq!(drain(&clip, Some(Seconds(1.0))), SECONDS as u64);
+    let mut g = c.benchmark_group("decode_1080p30_6s");
+    g.sample_size(10)
+        .measurement_time(Duration::from_secs(20))
+        .warm_up_time(Duration::from_secs(2));
+    g.bench_function("every_frame_ffmpeg_threads", |b| {
+        b.iter(|| drain(&clip, None))
+    });
+    g.bench_function("every_1s_key_frames_only", |b| {
+        b.iter(|| drain(&clip, Some(Seconds(1.0))))
+    });
+    g.finish();
+}
+
+criterion_group!(benches, bench);
+criterion_main!(benches);

@@ -1,0 +1,310 @@
+//! `spotlever track` end to end: the track file, the summary, and every bad input with a clear
+//! message, a non-zero exit and no panic.
+
+mod source_support;
+
+use source_support::*;
+use spotlever::export::track_csv::read_track;
+use spotlever::spot::SpotStatus;
+use std::path::Path;
+use std::process::{Command, Output};
+
+fn track(args: &[&str], path_env: Option<&str>) -> Output {
+    let mut c = Command::new(env!("CARGO_BIN_EXE_spotlever"));
+    c.arg("track").args(args);
+    if let Some(p) = path_env {
+        c.env("PATH", p);
+    }
+    c.output().expect("run spotlever")
+}
+
+fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
+fn fails_with(o: &Output, needles: &[&str]) {
+    let e = stderr(o);
+    assert!(!o.status.success(), "should fail: {e}");
+    assert!(!e.contains("panicked"), "panic: {e}");
+    for n in needles {
+        assert!(e.contains(n), "missing {n:?} in: {e}");
+    }
+}
+
+fn s(p: &Path) -> String {
+    p.to_string_lossy().into_owned()
+}
+
+#[test]
+fn tracks_a_sequence_and_writes_flushed_rows() {
+    let d = tempfile::tempdir().unwrap();
+    let frames = d.path().join("f");
+    let truth = write_png_frames(&frames, 10, 96, 72);
+    write_times(&frames, 10, 2.0);
+    let out = d.path().join("track.csv");
+    let o = track(&[&s(&frames), "--out", &s(&out)], None);
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert!(stderr(&o).contains("10 frames"), "{}", stderr(&o));
+    let t = read_track(&out).unwrap();
+    assert_eq!(t.rows.len(), 10);
+    for (r, (cx, cy)) in t.rows.iter().zip(&truth) {
+        let p = r.fix.position.expect("found");
+        // Spot finder accuracy is tested against the Cramér–Rao bound elsewhere; here only that
+        // the right frame reached the row: within 0.5 px of the rendered centre.
+        assert!(
+            (p.x - cx).abs() < 0.5 && (p.y - cy).abs() < 0.5,
+            "{p:?} vs {cx},{cy}"
+        );
+        assert_eq!(r.t.0, r.frame as f64 / 2.0);
+    }
+}
+
+#[test]
+fn corrupt_image_gives_unreadable_row_and_is_counted() {
+    let d = tempfile::tempdir().unwrap();
+    write_png_frames(d.path(), 6, 64, 48);
+    std::fs::write(d.path().join("img2.png"), b"\x89PNG broken").unwrap();
+    let out = d.path().join("t.csv");
+    let o = track(&[&s(d.path()), "--fps", "5", "--out", &s(&out)], None);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let e = stderr(&o);
+    assert!(e.contains("1 unreadable") && e.contains("img2.png"), "{e}");
+    let t = read_track(&out).unwrap();
+    assert_eq!(t.rows.len(), 6);
+    assert_eq!(t.rows[2].fix.status, SpotStatus::Unreadable);
+    assert!(t.rows[3].fix.position.is_some());
+}
+
+#[test]
+fn bad_inputs_fail_clearly() {
+    let d = tempfile::tempdir().unwrap();
+    let out = s(&d.path().join("t.csv"));
+    fails_with(
+        &track(&[&s(&d.path().join("missing")), "--out", &out], None),
+        &["missing", "no such file"],
+    );
+    let empty = d.path().join("empty");
+    std::fs::create_dir(&empty).unwrap();
+    fails_with(
+        &track(&[&s(&empty), "--fps", "1", "--out", &out], None),
+        &["empty", "no PNG"],
+    );
+
+    let f = d.path().join("f");
+    write_png_frames(&f, 4, 64, 48);
+    fails_with(
+        &track(&[&s(&f), "--out", &out], None),
+        &["--times", "--fps"],
+    );
+    fails_with(
+        &track(
+            &[&s(&f), "--fps", "1", "--roi", "40,10,30,10", "--out", &out],
+            None,
+        ),
+        &["--roi 40,10,30,10", "64x48"],
+    );
+    fails_with(
+        &track(
+            &[&s(&f), "--fps", "1", "--roi", "1,2,3", "--out", &out],
+            None,
+        ),
+        &["X,Y,W,H"],
+    );
+    std::fs::write(
+        f.join("times.csv"),
+        "file,t_s\nimg0.png,0\nimg1.png,-1\nimg2.png,2\nimg3.png,3\n",
+    )
+    .unwrap();
+    fails_with(
+        &track(&[&s(&f), "--out", &out], None),
+        &["times.csv, line 3"],
+    );
+    std::fs::write(f.join("times.csv"), "file;t_s\n").unwrap();
+    fails_with(
+        &track(&[&s(&f), "--out", &out], None),
+        &["times.csv, line 1"],
+    );
+    std::fs::remove_file(f.join("times.csv")).unwrap();
+    image::GrayImage::new(50, 48)
+        .save(f.join("img1.png"))
+        .unwrap();
+    fails_with(
+        &track(&[&s(&f), "--fps", "1", "--out", &out], None),
+        &["img1.png", "50x48", "64x48"],
+    );
+}
+
+#[test]
+fn truncated_video_keeps_rows_and_says_where_it_stopped() {
+    let d = tempfile::tempdir().unwrap();
+    let clip = d.path().join("cut.mp4");
+    let whole = std::fs::read(committed_clip()).unwrap();
+    // The clip has its index first (faststart), so cutting the tail loses only the last frames.
+    std::fs::write(&clip, &whole[..whole.len() * 6 / 10]).unwrap();
+    let out = d.path().join("t.csv");
+    let mut runs = vec![("builtin", None)];
+    if ffmpeg_or_skip("truncated_video_keeps_rows_and_says_where_it_stopped (ffmpeg part)") {
+        runs.push(("ffmpeg", None));
+    }
+    for (decoder, path) in runs {
+        let o = track(&[&s(&clip), "--decoder", decoder, "--out", &s(&out)], path);
+        fails_with(&o, &["cut.mp4", "decoding stopped after", "truncated"]);
+        let rows = read_track(&out).unwrap().rows;
+        assert!(
+            rows.len() >= 5 && rows.len() < 30,
+            "{decoder}: {} rows",
+            rows.len()
+        );
+        assert!(
+            stderr(&o).contains(&format!("{} frames", rows.len())),
+            "{}",
+            stderr(&o)
+        );
+    }
+}
+
+#[test]
+fn without_ffmpeg_the_builtin_reader_is_used_and_refuses_what_it_cannot_decode() {
+    let d = tempfile::tempdir().unwrap();
+    let out = s(&d.path().join("t.csv"));
+    // An empty PATH: no ffmpeg, so the committed Baseline clip goes through the built-in reader.
+    let o = track(&[&s(&committed_clip()), "--out", &out], Some(""));
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert!(stderr(&o).contains("built-in decoder"), "{}", stderr(&o));
+    assert_eq!(read_track(Path::new(&out)).unwrap().rows.len(), 30);
+
+    if !ffmpeg_or_skip("without_ffmpeg_... (clips made by ffmpeg)") {
+        return;
+    }
+    let f = d.path().join("f");
+    write_png_frames(&f, 12, 64, 48);
+    let bframes = d.path().join("b.mp4");
+    encode_pngs(
+        &f,
+        10,
+        &["-c:v", "libx264", "-pix_fmt", "yuv420p"],
+        &bframes,
+    );
+    fails_with(
+        &track(&[&s(&bframes), "--out", &out], Some("")),
+        &["B-frames", "install the ffmpeg program"],
+    );
+    let avi = d.path().join("cam.avi");
+    encode_pngs(&f, 10, &["-c:v", "mjpeg", "-pix_fmt", "yuvj420p"], &avi);
+    fails_with(
+        &track(&[&s(&avi), "--out", &out], Some("")),
+        &["AVI", "MJPG", "install the ffmpeg program"],
+    );
+    let hevc = d.path().join("phone.mp4");
+    encode_pngs(
+        &f,
+        10,
+        &[
+            "-c:v",
+            "libx265",
+            "-pix_fmt",
+            "yuv420p",
+            "-x265-params",
+            "log-level=error",
+        ],
+        &hevc,
+    );
+    fails_with(
+        &track(&[&s(&hevc), "--out", &out], Some("")),
+        &["HEVC", "install the ffmpeg program"],
+    );
+    // And with ffmpeg the same files are read.
+    for clip in [&bframes, &avi, &hevc] {
+        let o = track(&[&s(clip), "--out", &out], None);
+        assert!(o.status.success(), "{}: {}", clip.display(), stderr(&o));
+        assert_eq!(
+            read_track(Path::new(&out)).unwrap().rows.len(),
+            12,
+            "{}",
+            clip.display()
+        );
+    }
+}
+
+#[test]
+fn not_a_video_is_refused_with_the_reason() {
+    let d = tempfile::tempdir().unwrap();
+    let junk = d.path().join("junk.mp4");
+    std::fs::write(&junk, vec![7u8; 5000]).unwrap();
+    let out = s(&d.path().join("t.csv"));
+    fails_with(
+        &track(&[&s(&junk), "--decoder", "builtin", "--out", &out], None),
+        &["junk.mp4", "install the ffmpeg program"],
+    );
+    if ffmpeg_or_skip("not_a_video_is_refused_with_the_reason (ffmpeg part)") {
+        fails_with(
+            &track(&[&s(&junk), "--out", &out], None),
+            &["junk.mp4", "cannot read it"],
+        );
+    }
+}
+
+fn scale_calibration(path: &Path, width: u32, height: u32) {
+    use nalgebra::Matrix3;
+    // x_mm = 0.5 x_px - 10, y_mm = 0.5 y_px + 3: an affine homography.
+    let h = Matrix3::new(0.5, 0.0, -10.0, 0.0, 0.5, 3.0, 0.0, 0.0, 1.0);
+    let c = spotlever::calib::Calibration {
+        image_width: width,
+        image_height: height,
+        h,
+        h_inv: h.try_inverse().expect("invertible"),
+        rms_px: 0.0,
+        rms_mm: 0.0,
+        points: 4,
+        source_image: "grid.png".into(),
+        created: "2026-01-01T00:00:00Z".into(),
+        notes: String::new(),
+    };
+    c.save(path).expect("save calibration");
+}
+
+#[test]
+fn calibration_adds_screen_millimetres_and_must_match_the_image_size() {
+    let d = tempfile::tempdir().unwrap();
+    let f = d.path().join("f");
+    write_png_frames(&f, 4, 64, 48);
+    let good = d.path().join("good.toml");
+    scale_calibration(&good, 64, 48);
+    let out = d.path().join("t.csv");
+    let o = track(
+        &[
+            &s(&f),
+            "--fps",
+            "1",
+            "--calib",
+            &s(&good),
+            "--out",
+            &s(&out),
+        ],
+        None,
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let t = read_track(&out).unwrap();
+    assert!(t.has_mm);
+    for r in &t.rows {
+        let (p, m) = (r.fix.position.unwrap(), r.screen.unwrap());
+        // The file keeps 4 decimals of px and 5 of mm.
+        assert!((m.x_mm - (0.5 * p.x - 10.0)).abs() < 1e-4, "{p:?} {m:?}");
+        assert!((m.y_mm - (0.5 * p.y + 3.0)).abs() < 1e-4, "{p:?} {m:?}");
+    }
+    let other = d.path().join("other.toml");
+    scale_calibration(&other, 1920, 1080);
+    let o = track(
+        &[
+            &s(&f),
+            "--fps",
+            "1",
+            "--calib",
+            &s(&other),
+            "--out",
+            &s(&out),
+        ],
+        None,
+    );
+    fails_with(&o, &["other.toml", "1920"]);
+}
