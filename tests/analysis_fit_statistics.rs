@@ -98,8 +98,20 @@ fn period_and_equilibrium_spread_meet_the_cramer_rao_bound() {
         se / crb_eq,
         ue / se
     );
-    assert!(sp <= 1.15 * crb_period, "period spread {sp} vs bound {crb_period}");
-    assert!(se <= 1.15 * crb_eq, "equilibrium spread {se} vs bound {crb_eq}");
-    assert!((up / sp - 1.0).abs() <= 0.15, "stated u(T) {up} vs spread {sp}");
-    assert!((ue / se - 1.0).abs() <= 0.15, "stated u(eq) {ue} vs spread {se}");
+    assert!(
+        sp <= 1.15 * crb_period,
+        "period spread {sp} vs bound {crb_period}"
+    );
+    assert!(
+        se <= 1.15 * crb_eq,
+        "equilibrium spread {se} vs bound {crb_eq}"
+    );
+    assert!(
+        (up / sp - 1.0).abs() <= 0.15,
+        "stated u(T) {up} vs spread {sp}"
+    );
+    assert!(
+        (ue / se - 1.0).abs() <= 0.15,
+        "stated u(eq) {ue} vs spread {se}"
+    );
 }

@@ -64,9 +64,36 @@ fn stated_uncertainty_of_g_covers_the_truth_as_often_as_one_sigma_should() {
     let frac = covered as f64 / runs as f64;
     let zrms = (z.iter().map(|v| v * v).sum::<f64>() / z.len() as f64).sqrt();
     let mc = mc_ratio.iter().sum::<f64>() / mc_ratio.len() as f64;
-    eprintln!("coverage {frac:.3} over {runs} runs; rms of (G - G_true)/u(G) {zrms:.3}; MC/GUM u {mc:.3}");
+    eprintln!(
+        "coverage {frac:.3} over {runs} runs; rms of (G - G_true)/u(G) {zrms:.3}; MC/GUM u {mc:.3}"
+    );
     assert!((0.60..=0.76).contains(&frac), "coverage {frac}");
     // JCGM 101 validates the first-order result when the two agree; with 2000 draws the Monte Carlo
     // standard deviation itself scatters by about 1.6 %.
     assert!((mc - 1.0).abs() < 0.03, "MC/GUM {mc}");
+}
+
+#[test]
+fn result_agrees_with_the_closed_form_for_a_rod_of_length_two_arms() {
+    // Common practice, no source: for a thin rod of length 2R and point-like small spheres, ignoring
+    // the far sphere, G = 2 pi^2 R theta d^2 (m_rod/3 + 2m) / (m M T^2). The analysis includes the far
+    // sphere (beta) and the spheres' own inertia, so G (1 - beta) is compared, with a small radius of
+    // 1 um making the 2/5 m r^2 term negligible (4e-10 relative).
+    let text = analysis_common::EXACT_SETUP.replace(
+        "small_radius = \"7.5 ± 0 mm\"",
+        "small_radius = \"0.001 ± 0 mm\"",
+    );
+    let setup = spotlever::setup::Setup::parse(&text, std::path::Path::new("point.toml")).unwrap();
+    let r = run(5, 3.0, 2.0, 0.0, 0.0, 1);
+    let a = analyze(&r.samples, &setup, Some(&r.events), &quick()).unwrap();
+    let (big_r, d, m_rod, m, big_m) = (0.05, 0.0465, 0.010, 0.015, 1.5);
+    let (theta, t) = (a.deflection.theta_g.value, a.period.value);
+    let closed =
+        2.0 * std::f64::consts::PI.powi(2) * big_r * theta * d * d * (m_rod / 3.0 + 2.0 * m)
+            / (m * big_m * t * t);
+    let ours = a.g.value * (1.0 - a.beta);
+    assert!(
+        (ours / closed - 1.0).abs() < 1e-9,
+        "{ours} vs closed form {closed}"
+    );
 }

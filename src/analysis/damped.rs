@@ -383,12 +383,10 @@ mod tests {
         let t: Vec<f64> = (0..2000).map(|k| 100.0 + k as f64).collect();
         let y: Vec<f64> = t.iter().map(|&t| model(&truth, 100.0, 1100.0, t)).collect();
         let f = fit_damped(&t, &y, 100.0, 1100.0, truth[OMEGA] * 1.01, true).unwrap();
-        for k in 0..6 {
+        for (k, (got, want)) in f.params.iter().zip(&truth).enumerate() {
             assert!(
-                (f.params[k] - truth[k]).abs() <= 1e-7 * truth[k].abs() + 1e-15,
-                "{k}: {} vs {}",
-                f.params[k],
-                truth[k]
+                (got - want).abs() <= 1e-7 * want.abs() + 1e-15,
+                "{k}: {got} vs {want}"
             );
         }
         // Analytic second derivative against a finite difference.

@@ -138,7 +138,8 @@ fn side(
 }
 
 /// The jump of angular acceleration at each move, from windows of `window` s either side (kept within
-/// the neighbouring segments `bounds[i]..bounds[i+1]`, and `guard` s away from the move).
+/// the neighbouring segments `bounds[i]..bounds[i+1]`, and `guard` s away from the move), for an
+/// oscillator of decay rate `gamma` (1/s) and damped angular frequency `omega_d` (rad/s).
 pub fn acceleration(
     t: &[f64],
     y: &[f64],
@@ -146,8 +147,7 @@ pub fn acceleration(
     bounds: &[(f64, f64)],
     window: f64,
     guard: f64,
-    gamma: f64,
-    omega_d: f64,
+    (gamma, omega_d): (f64, f64),
 ) -> Option<Acceleration> {
     let mut per_move = Vec::new();
     for (i, &tm) in moves.iter().enumerate() {
@@ -204,7 +204,8 @@ pub fn acceleration(
 /// Index of each input in [`deflection_inputs`] / [`acceleration_inputs`] (shared beam and source part).
 const BEAM_INPUTS: usize = 8;
 
-fn beam_inputs(setup: &Setup) -> Vec<Input> {
+/// The beam's and the sources' inputs (the first entries of both models' inputs).
+pub fn beam_inputs(setup: &Setup) -> Vec<Input> {
     let b = &setup.beam;
     let s = &setup.sources;
     vec![
@@ -229,7 +230,8 @@ fn beam_inputs(setup: &Setup) -> Vec<Input> {
     ]
 }
 
-fn inertia_of(x: &[f64]) -> f64 {
+/// Moment of inertia from the first entries of [`beam_inputs`].
+pub fn inertia_of(x: &[f64]) -> f64 {
     physics::beam_inertia(x[3], x[4], x[0], x[1], x[2], x[5])
 }
 

@@ -216,7 +216,7 @@ fn weighted_mean(v: &[Measured]) -> Option<(Measured, Option<f64>)> {
     if v.is_empty() {
         return None;
     }
-    if v.iter().any(|m| !(m.u > 0.0)) {
+    if v.iter().any(|m| m.u.is_nan() || m.u <= 0.0) {
         let mean = v.iter().map(|m| m.value).sum::<f64>() / v.len() as f64;
         return Some((Measured::new(mean, 0.0), None));
     }
@@ -634,24 +634,17 @@ pub fn analyze(
     let g_mc = uncertainty::monte_carlo(&inputs, &model, opts.mc_draws, opts.mc_seed)?;
 
     // Inertia and kappa with their uncertainties (GUM on the beam inputs).
-    let b = &setup.beam;
-    let beam_in = vec![
-        uncertainty::Input::new("m", b.small_mass.value, b.small_mass.u, "kg"),
-        uncertainty::Input::new("r", b.small_radius.value, b.small_radius.u, "m"),
-        uncertainty::Input::new("R", b.arm.value, b.arm.u, "m"),
-        uncertainty::Input::new("rod_mass", b.rod_mass.value, b.rod_mass.u, "kg"),
-        uncertainty::Input::new("rod_length", b.rod_length.value, b.rod_length.u, "m"),
-        uncertainty::Input::new("extra", b.extra_inertia.value, b.extra_inertia.u, "kg m^2"),
-        uncertainty::Input::new("T0", period.value, period.u, "s"),
-    ];
-    let inertia_g = uncertainty::gum(&beam_in, |x| {
-        physics::beam_inertia(x[3], x[4], x[0], x[1], x[2], x[5])
-    })?;
+    let mut beam_in = gravity::beam_inputs(setup);
+    beam_in.push(uncertainty::Input::new(
+        "period T0",
+        period.value,
+        period.u,
+        "s",
+    ));
+    let t0_index = beam_in.len() - 1;
+    let inertia_g = uncertainty::gum(&beam_in, gravity::inertia_of)?;
     let kappa_g = uncertainty::gum(&beam_in, |x| {
-        physics::torsion_constant(
-            physics::beam_inertia(x[3], x[4], x[0], x[1], x[2], x[5]),
-            2.0 * PI / x[6],
-        )
+        physics::torsion_constant(gravity::inertia_of(x), 2.0 * PI / x[t0_index])
     })?;
     let beta = physics::far_sphere_beta(setup.sources.separation.value, setup.beam.arm.value);
 
@@ -663,8 +656,7 @@ pub fn analyze(
         &bounds,
         opts.accel_window_periods * period0,
         guard,
-        gamma_v,
-        omega_d,
+        (gamma_v, omega_d),
     )
     .and_then(|acc| {
         let inputs = gravity::acceleration_inputs(setup, acc.alpha);

@@ -197,7 +197,7 @@ pub fn spectrum(t: &[f64], y: &[f64], opts: &SpectrumOptions) -> Result<Spectrum
                     (bk, bv)
                 }
             });
-    if kbest == kmin || !(magnitude[kbest] > 0.0) {
+    if kbest == kmin || magnitude[kbest].is_nan() || magnitude[kbest] <= 0.0 {
         return Err(SpectrumError::NoPeak);
     }
     let (a, b, c) = (

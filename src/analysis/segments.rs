@@ -162,7 +162,7 @@ pub fn detect_moves(t: &[f64], y: &[f64], period: f64, gamma: f64) -> Detection 
         noise: 0.0,
     };
     let n = t.len().min(y.len());
-    if n < 10 || !(period > 0.0) {
+    if n < 10 || period.is_nan() || period <= 0.0 {
         return empty;
     }
     let w0 = 2.0 * std::f64::consts::PI / period;
@@ -276,7 +276,7 @@ pub fn refine_move(
     gamma: f64,
     omega_d: f64,
 ) -> Option<f64> {
-    if !(omega_d > 0.0) {
+    if omega_d.is_nan() || omega_d <= 0.0 {
         return None;
     }
     let period = 2.0 * std::f64::consts::PI / omega_d;

@@ -4,7 +4,8 @@
 //!
 //! Extremes are found as the largest (or smallest) sample within a quarter period either side, refined
 //! by a parabola through the samples within a twelfth of a period; extremes closer than a twelfth of a
-//! period to the segment's ends are not used (the trace may simply be cut there).
+//! period to the segment's ends are not used (the trace may simply be cut there), nor are those whose
+//! quarter-period neighbourhood holds a gap in the samples.
 
 use crate::units::Measured;
 
@@ -19,10 +20,19 @@ pub struct Extreme {
 /// Find the alternating extremes of `(t, y)` for an oscillation of period `period` (s).
 pub fn extremes(t: &[f64], y: &[f64], period: f64) -> Vec<Extreme> {
     let n = t.len().min(y.len());
-    if n < 5 || !(period > 0.0) {
+    if n < 5 || period.is_nan() || period <= 0.0 {
         return Vec::new();
     }
     let (q, edge) = (period / 4.0, period / 12.0);
+    // Gaps (spacing over three times the median) make a window's extreme meaningless: count them so
+    // windows that contain one are skipped.
+    let mut d: Vec<f64> = t[..n].windows(2).map(|w| w[1] - w[0]).collect();
+    d.sort_by(f64::total_cmp);
+    let big = 3.0 * d[d.len() / 2];
+    let mut gaps = vec![0usize; n];
+    for k in 1..n {
+        gaps[k] = gaps[k - 1] + usize::from(t[k] - t[k - 1] > big);
+    }
     let mut out: Vec<Extreme> = Vec::new();
     let (mut lo, mut hi) = (0usize, 0usize);
     for i in 0..n {
@@ -33,6 +43,9 @@ pub fn extremes(t: &[f64], y: &[f64], period: f64) -> Vec<Extreme> {
             hi += 1;
         }
         if t[i] - t[0] < edge || t[n - 1] - t[i] < edge {
+            continue;
+        }
+        if gaps[hi] > gaps[lo] || t[i] - t[lo] < q - big || t[hi] - t[i] < q - big {
             continue;
         }
         let win = &y[lo..=hi];
@@ -94,9 +107,10 @@ fn refine(t: &[f64], y: &[f64], i: usize, h: f64, is_max: bool) -> Extreme {
 }
 
 /// Mean rest point over all triples of successive extremes, with the standard deviation of the mean of
-/// the (overlapping, hence correlated: an indicative figure) triple estimates. `None` below 3 extremes.
+/// the (overlapping, hence correlated: an indicative figure) triple estimates. `None` below 4 extremes
+/// (a single triple gives no scatter to judge it by).
 pub fn rest_point(ext: &[Extreme]) -> Option<Measured> {
-    if ext.len() < 3 {
+    if ext.len() < 4 {
         return None;
     }
     let r: Vec<f64> = ext
@@ -105,12 +119,8 @@ pub fn rest_point(ext: &[Extreme]) -> Option<Measured> {
         .collect();
     let n = r.len() as f64;
     let mean = r.iter().sum::<f64>() / n;
-    let u = if r.len() > 1 {
-        (r.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (n - 1.0) / n).sqrt()
-    } else {
-        f64::NAN
-    };
-    Some(Measured::new(mean, if u.is_finite() { u } else { 0.0 }))
+    let u = (r.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (n - 1.0) / n).sqrt();
+    Some(Measured::new(mean, u))
 }
 
 #[cfg(test)]

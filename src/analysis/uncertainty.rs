@@ -2,7 +2,7 @@
 //! inputs, two ways:
 //! - first order, JCGM 100:2008 (GUM) section 5.1.2: `u_c^2(y) = sum (c_i u(x_i))^2` with sensitivity
 //!   coefficients `c_i = df/dx_i` (here by central differences of step `u(x_i) / 100`, or a relative
-//!   1e-6 for exact inputs), reported as a budget (contribution `|c_i| u(x_i)` and share of `u_c^2`);
+//!   1e-6 for exact inputs, 1e-9 in SI units for exact zeros), reported as a budget (contribution `|c_i| u(x_i)` and share of `u_c^2`);
 //! - Monte Carlo, JCGM 101:2008: `M` draws of Gaussian inputs pushed through `f`, reporting the mean,
 //!   standard deviation and the probabilistically symmetric 95 % coverage interval (section 7.7).
 
@@ -95,8 +95,10 @@ pub fn gum(inputs: &[Input], f: impl Fn(&[f64]) -> f64) -> Result<Gum, Propagati
     for (k, inp) in inputs.iter().enumerate() {
         let h = if inp.u > 0.0 {
             inp.u / 100.0
+        } else if inp.value != 0.0 {
+            1e-6 * inp.value.abs()
         } else {
-            1e-6 * inp.value.abs().max(1e-30)
+            1e-9
         };
         let mut xp = x.clone();
         xp[k] += h;
