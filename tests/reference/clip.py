@@ -1,0 +1,294 @@
+"""The side-by-side on one 1920x1080 H.264 clip: spotlever (`track` + `analyze`) against the OpenCV
+baseline (baseline.py), in one run: position RMS error against the rendered truth, period and equilibrium
+errors, and wall times, with the decoder's time alone as the floor.
+
+The clip shows a dim ruled screen facing the camera (pure scale, 0.25 mm per px) with the spot of a
+swinging, damped torsion balance: x(t) = x_eq + A exp(-t / tau) cos(2 pi t / T_d + phi), with the large
+masses moved once half way (the equilibrium steps, the swing carries on from where it was), 10 frames per
+second, one key frame per second (so `--every 1` can decode key frames only). Both sides are told when
+the masses moved (events.csv for spotlever, the same times for the baseline) and fit each segment.
+"""
+
+import json
+import math
+import os
+import re
+import subprocess
+import sys
+import time
+
+import numpy as np
+
+import scene
+from util import read_result, read_track, run_spotlever
+
+W, H = 1920, 1080
+FPS = 10
+FRAMES = int(os.environ.get("SPOTLEVER_REF_FRAMES", "3000"))
+MM_PER_PX = 0.25
+SIGMA, AMP, NOISE, LEVEL = 4.0, 130.0, 3.0, 90.0
+T_D, TAU, A_MM, PHI = 61.3, 260.0, 38.0, 0.4
+EQ_MM = (12.3, -7.9)  # equilibrium of each segment, screen mm
+T_MOVE = FRAMES / FPS / 2
+Y_MM = -5.0
+L_M = 2.0  # mirror to screen
+
+SETUP = """# An invented apparatus for the reference clip.
+[beam]
+small_mass = "14.6 ± 0.05 g"
+small_radius = "7.5 ± 0.05 mm"
+arm = "50.0 ± 0.1 mm"
+rod_mass = "10 ± 0.5 g"
+[sources]
+large_mass = "1.50 ± 0.01 kg"
+large_radius = "32 ± 0.5 mm"
+separation = "46.5 ± 0.2 mm"
+[lever]
+screen_distance = "2.000 ± 0.005 m"
+zero = "0 ± 0.5 mm"
+scale = "flat"
+"""
+
+
+def truth_mm(t):
+    """Exact piecewise motion of a damped oscillator whose equilibrium steps at T_MOVE."""
+    g, w = 1.0 / TAU, 2 * math.pi / T_D
+    x = EQ_MM[0] + A_MM * np.exp(-g * t) * np.cos(w * t + PHI)
+    # state at the move, relative to the new equilibrium
+    u0 = EQ_MM[0] - EQ_MM[1] + A_MM * math.exp(-g * T_MOVE) * math.cos(w * T_MOVE + PHI)
+    v0 = -A_MM * math.exp(-g * T_MOVE) * (g * math.cos(w * T_MOVE + PHI) + w * math.sin(w * T_MOVE + PHI))
+    s = t - T_MOVE
+    after = EQ_MM[1] + np.exp(-g * s) * (u0 * np.cos(w * s) + (v0 + g * u0) / w * np.sin(w * s))
+    x = np.where(t >= T_MOVE, after, x)
+    return x, np.full_like(t, Y_MM)
+
+
+def h_mm_to_px():
+    return scene.screen_to_image_h(W, H, MM_PER_PX)
+
+
+def render(work):
+    """Render the frames with numpy and pipe them to ffmpeg; returns (clip path, truth px Nx2, seconds)."""
+    t0 = time.perf_counter()
+    h = h_mm_to_px()
+    bg = scene.ruled_background(W, H, h, level=LEVEL, line_depth=35.0).ravel()
+    rng = np.random.default_rng(2024)
+    # One long pool of read noise, sliced at a random offset per frame (fresh-looking noise at the cost
+    # of one add instead of a new draw of two million normals each frame).
+    pool = rng.normal(0.0, NOISE, W * H + 65536).astype(np.float32)
+    t = np.arange(FRAMES) / FPS
+    xm, ym = truth_mm(t)
+    truth = scene.apply_h(h, np.c_[xm, ym])
+    path = os.path.join(work, "clip.mp4")
+    enc = subprocess.Popen(
+        ["ffmpeg", "-v", "error", "-y", "-f", "rawvideo", "-pix_fmt", "gray", "-s", f"{W}x{H}",
+         "-r", str(FPS), "-i", "-", "-c:v", "libx264", "-preset", "ultrafast", "-profile:v", "baseline",
+         "-crf", "26", "-g", str(FPS), "-keyint_min", str(FPS), "-sc_threshold", "0",
+         "-pix_fmt", "yuv420p", path],
+        stdin=subprocess.PIPE,
+    )
+    buf = np.empty(W * H, dtype=np.float32)
+    for i in range(FRAMES):
+        off = int(rng.integers(0, 65536))
+        np.add(bg, pool[off : off + W * H], out=buf)
+        img = buf.reshape(H, W)
+        scene.add_spot(img, truth[i, 0], truth[i, 1], SIGMA, AMP)
+        enc.stdin.write(scene.quantise(img).tobytes())
+    enc.stdin.close()
+    if enc.wait() != 0:
+        raise RuntimeError("ffmpeg could not encode the clip (is libx264 available?)")
+    return path, truth, time.perf_counter() - t0
+
+
+def timed(cmd, keep_output=False):
+    t0 = time.perf_counter()
+    if keep_output:
+        p = subprocess.run(cmd, capture_output=True, text=True)
+    else:
+        p = subprocess.run(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    return p, time.perf_counter() - t0
+
+
+def to_px(theta_rad):
+    """An equilibrium angle from result.json as the x pixel of its spot on this clip's flat screen
+    (foot point at the screen origin): x = L tan(2 theta)."""
+    return (W - 1) / 2.0 + 1e3 * L_M * math.tan(2 * theta_rad) / MM_PER_PX
+
+
+def segment_values(doc):
+    """Per segment of result.json: (equilibrium in px, natural period in s or None)."""
+    out = []
+    for seg in doc.get("segments", []):
+        eq = seg.get("equilibrium_rad") or {}
+        per = seg.get("period_s") or {}
+        out.append((to_px(eq["value"]) if "value" in eq else None, per.get("value")))
+    return out
+
+
+def natural_period():
+    """2 pi / omega_0 with omega_0^2 = omega_d^2 + gamma^2 (the period the torsion constant needs)."""
+    return 2 * math.pi / math.hypot(2 * math.pi / T_D, 1.0 / TAU)
+
+
+def run(bin_path, py, work, table):
+    os.makedirs(work, exist_ok=True)
+    print(f"rendering and encoding the {W}x{H} clip ({FRAMES} frames)...", flush=True)
+    clip, truth, t_render = render(work)
+    print(f"  clip ready in {t_render:.1f} s", flush=True)
+    setup = os.path.join(work, "setup.toml")
+    with open(setup, "w") as f:
+        f.write(SETUP)
+    events = os.path.join(work, "events.csv")
+    with open(events, "w") as f:
+        f.write(f"t_s,label\n0,A\n{T_MOVE},B\n")
+    eq_truth = [(W - 1) / 2.0 + e / MM_PER_PX for e in EQ_MM]
+
+    # Decoder alone: the floor. The decoding spotlever's ffmpeg source asks for (one gray plane per frame,
+    # the showinfo filter for exact times, passthrough timing), written to nowhere; the same with key
+    # frames only, for the once-a-second case; and plain decoding without the filter, for scale.
+    same = ["-map", "0:v:0", "-an", "-vf", "showinfo", "-vsync", "passthrough", "-f", "rawvideo",
+            "-pix_fmt", "gray", "-y", "/dev/null"]
+    _, t_decode = timed(["ffmpeg", "-nostdin", "-loglevel", "info", "-i", clip] + same)
+    _, t_decode_key = timed(["ffmpeg", "-nostdin", "-loglevel", "info", "-skip_frame", "nokey", "-i", clip] + same)
+    _, t_decode_plain = timed(["ffmpeg", "-nostdin", "-v", "error", "-i", clip, "-map", "0:v:0", "-f", "rawvideo",
+                               "-pix_fmt", "gray", "-y", "/dev/null"])
+
+    # Baseline, end to end (process start to result, as a user would experience it).
+    base_json = os.path.join(work, "baseline.json")
+    p, t_base = timed(keep_output=True, cmd=[py, os.path.join(os.path.dirname(os.path.abspath(__file__)), "baseline.py"), clip,
+                       base_json, "--starts", str(T_MOVE)])
+    base = None
+    if p.returncode == 0:
+        with open(base_json) as f:
+            base = json.load(f)
+    else:
+        print(f"baseline failed: {p.stderr.strip()[-400:]}", flush=True)
+
+    # spotlever: calibrate from exact ruling crossings, track, analyze; then track once a second.
+    import cv2
+
+    calib_png = os.path.join(work, "clip_screen.png")
+    cv2.imwrite(calib_png, scene.quantise(scene.ruled_background(W, H, h_mm_to_px(), level=LEVEL, line_depth=35.0)))
+    pairs = os.path.join(work, "clip_pairs.csv")
+    with open(pairs, "w") as f:
+        f.write("x_px,y_px,x_mm,y_mm\n")
+        for xmm in range(-200, 201, 50):
+            for ymm in range(-100, 101, 50):
+                x, y = scene.apply_h(h_mm_to_px(), [[xmm, ymm]])[0]
+                f.write(f"{x:.4f},{y:.4f},{xmm},{ymm}\n")
+    calib = os.path.join(work, "clip_calibration.toml")
+    ok_cal, msg_cal = run_spotlever(bin_path, ["calibrate", calib_png, "--points", pairs, "--out", calib])
+    if not ok_cal:
+        print(f"  calibrate failed ({msg_cal}); tracking in pixels only", flush=True)
+    calib_args = ["--calib", calib] if ok_cal else []
+    track = os.path.join(work, "clip_track.csv")
+    t0 = time.perf_counter()
+    ok_tr, msg_tr = run_spotlever(bin_path, ["track", clip] + calib_args + ["--out", track])
+    t_track = time.perf_counter() - t0
+    out_dir = os.path.join(work, "clip_analysis")
+    t0 = time.perf_counter()
+    ok_an, msg_an = (False, "no track") if not ok_tr else run_spotlever(
+        bin_path, ["analyze", track, "--setup", setup, "--events", events, "--out", out_dir])
+    t_analyze = time.perf_counter() - t0
+    track1 = os.path.join(work, "clip_track_every1.csv")
+    t0 = time.perf_counter()
+    ok_e1, msg_e1 = run_spotlever(bin_path, ["track", clip] + calib_args + ["--every", "1", "--out", track1])
+    t_every = time.perf_counter() - t0
+    # The floor again, right after the tracking runs: the machine may be shared, so the smaller of the
+    # two decoder-alone times is used (the conservative choice for the overhead).
+    _, t_decode_again = timed(["ffmpeg", "-nostdin", "-loglevel", "info", "-i", clip] + same)
+    t_decode_first, t_decode = t_decode, min(t_decode, t_decode_again)
+
+    # ---- accuracy ----
+    base_rms = math.nan
+    if base is not None:
+        bxy = np.c_[base["x_px"], base["y_px"]][:FRAMES]
+        base_rms = float(np.sqrt(np.mean(np.sum((bxy - truth[: len(bxy)]) ** 2, axis=1))))
+    s_rms, lost = math.nan, FRAMES
+    if ok_tr:
+        est = np.full((FRAMES, 2), np.nan)
+        for r in read_track(track):
+            if r["frame"] < FRAMES and r["x_px"] is not None:
+                est[r["frame"]] = (r["x_px"], r["y_px"])
+        e = np.sum((est - truth) ** 2, axis=1)
+        s_rms = float(np.sqrt(np.nanmean(e)))
+        lost = int(np.isnan(e).sum())
+    table.add(
+        "clip: position RMS error px (H.264, every frame)",
+        f"{s_rms:.4f}" if ok_tr else "n/a",
+        f"{base_rms:.4f} (OpenCV baseline)",
+        f"0 (CRB {scene.crb_rms_2d(AMP, NOISE):.4f} before coding)",
+        "PASS" if ok_tr and s_rms <= 0.5 * base_rms and lost == 0 else "FAIL",
+        f"target spotlever <= 0.5 x baseline: ratio {s_rms / base_rms:.3f}; lost {lost}"
+        + ("" if ok_tr else f"; spotlever: {msg_tr}"),
+    )
+    doc, ok_an, msg_an = read_result(ok_an, msg_an, out_dir)
+    segs = segment_values(doc) if doc else []
+    bsegs = base["segments"] if base else []
+    t0_truth = natural_period()
+    for k in range(2):
+        b_eq = bsegs[k]["equilibrium_px"] - eq_truth[k] if k < len(bsegs) else math.nan
+        b_p = bsegs[k]["period_s"] - t0_truth if k < len(bsegs) else math.nan
+        s_eq = segs[k][0] - eq_truth[k] if k < len(segs) and segs[k][0] is not None else None
+        s_p = segs[k][1] - t0_truth if k < len(segs) and segs[k][1] is not None else None
+        why = "" if ok_an else f"spotlever: {msg_an}"
+        if ok_an and k >= len(segs):
+            why = f"result.json has {len(segs)} segments"
+        table.add(
+            f"clip: segment {k + 1} equilibrium error px",
+            f"{s_eq:+.4f}" if s_eq is not None else "n/a",
+            f"{b_eq:+.4f} (OpenCV baseline)",
+            f"0 ({eq_truth[k]:.2f} px)",
+            "PASS" if s_eq is not None and abs(s_eq) <= abs(b_eq) else "FAIL",
+            "target: |spotlever| <= |baseline|" + (f"; {why}" if why else ""),
+        )
+        table.add(
+            f"clip: segment {k + 1} period error s (truth: natural period)",
+            f"{s_p:+.4f}" if s_p is not None else "n/a",
+            f"{b_p:+.4f} (OpenCV baseline, undamped sine)",
+            f"0 ({t0_truth:.3f} s)",
+            "PASS" if s_p is not None and abs(s_p) <= abs(b_p) else "FAIL",
+            "target: |spotlever| <= |baseline|" + (f"; {why}" if why else ""),
+        )
+
+    # ---- speed ----
+    r1 = t_track / t_decode - 1.0 if ok_tr else math.nan
+    r2 = (t_track + t_analyze) / t_base if ok_tr and ok_an and base else math.nan
+    r3 = t_base / t_every if ok_e1 and base else math.nan
+    table.add(
+        "speed: tracking time over decoding alone, - 1",
+        f"{t_track:.1f} s track" if ok_tr else "n/a",
+        f"{t_decode:.1f} s ffmpeg decode, same options",
+        "-",
+        "PASS" if r1 <= 0.10 else "FAIL",
+        f"overhead {r1:+.3f} (target <= +0.10); decoder alone before/after tracking {t_decode_first:.1f}/{t_decode_again:.1f} s (smaller used); "
+        f"plain decode without the timing filter {t_decode_plain:.1f} s",
+    )
+    table.add(
+        "speed: end-to-end wall time, spotlever / baseline",
+        f"{t_track + t_analyze:.1f} s" if ok_tr else "n/a",
+        f"{t_base:.1f} s (OpenCV baseline)",
+        "-",
+        "PASS" if r2 <= 1.0 else "FAIL",
+        f"ratio {r2:.3f} (target <= 1); track {t_track:.1f} s + analyze {t_analyze:.2f} s"
+        + ("" if ok_an else f"; {msg_an}"),
+    )
+    table.add(
+        "speed: baseline / spotlever --every 1 (1 key frame per s)",
+        f"{t_every:.1f} s" if ok_e1 else "n/a",
+        f"{t_base:.1f} s (OpenCV baseline, every frame)",
+        "-",
+        "PASS" if r3 >= 4.0 else "FAIL",
+        f"speed-up {r3:.2f}x (target >= 4x); key-frame-only decode alone {t_decode_key:.1f} s"
+        + ("" if ok_e1 else f"; spotlever: {msg_e1}"),
+    )
+    return {"decode_s": t_decode, "decode_key_s": t_decode_key, "decode_plain_s": t_decode_plain, "track_s": t_track, "analyze_s": t_analyze,
+            "every1_s": t_every, "baseline_s": t_base, "render_s": t_render, "ratios": [r1, r2, r3]}
+
+
+if __name__ == "__main__":
+    from util import Table
+
+    tb = Table()
+    run(sys.argv[1], sys.executable, sys.argv[2], tb)
+    print(tb.render())

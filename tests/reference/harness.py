@@ -1,0 +1,73 @@
+"""The reference harness: runs every comparison on inputs it makes, prints the one table and exits
+non-zero when spotlever is less accurate than a reference beyond the stated tolerance, when the two
+disagree where they should agree, or when a speed target is missed.
+
+Usage: python harness.py --bin target/release/spotlever [--probe target/release/examples/reference_probe]
+                         --work DIR [--skip-clip]
+"""
+
+import argparse
+import os
+import sys
+import time
+
+import numpy as np
+
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+
+import analysis_refs  # noqa: E402
+import clip  # noqa: E402
+import g_run  # noqa: E402
+import homography  # noqa: E402
+import scene  # noqa: E402
+import spots  # noqa: E402
+from util import Table  # noqa: E402
+
+
+def main():
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--bin", required=True)
+    ap.add_argument("--probe", default="")
+    ap.add_argument("--work", required=True)
+    ap.add_argument("--skip-clip", action="store_true")
+    a = ap.parse_args()
+    os.makedirs(a.work, exist_ok=True)
+    t0 = time.perf_counter()
+    table = Table()
+
+    # A ruled screen seen at an angle, shared by the spot sets and the calibration check.
+    h = scene.screen_to_image_h(spots.WIDTH, spots.HEIGHT, 0.4, shear=0.03, persp=(2.0e-4, -1.5e-4))
+    bg = scene.ruled_background(spots.WIDTH, spots.HEIGHT, h, level=spots.SCREEN_LEVEL, line_depth=spots.LINE_DEPTH)
+
+    print("== spot positions on synthesized frames", flush=True)
+    spots.run(a.bin, a.work, h, None, table)
+    print("== homography", flush=True)
+    homography.run(a.bin, a.work, h, spots.WIDTH, spots.HEIGHT, bg, table)
+    print("== spectrum, damped fit, Monte Carlo of G", flush=True)
+    analysis_refs.run(a.bin, a.probe, a.work, table)
+    g_run.run(a.bin, a.work, table)
+    speed = None
+    if not a.skip_clip:
+        print("== side by side on the H.264 clip", flush=True)
+        speed = clip.run(a.bin, sys.executable, os.path.join(a.work, "clip"), table)
+
+    print()
+    print("spotlever against reference libraries (numpy, scipy, opencv-python-headless, trackpy)")
+    print(table.render())
+    if speed:
+        r1, r2, r3 = speed["ratios"]
+        print()
+        print(
+            f"speed on the clip: decode alone {speed['decode_s']:.1f} s, track {speed['track_s']:.1f} s "
+            f"(overhead {r1:+.3f}), analyze {speed['analyze_s']:.2f} s, baseline {speed['baseline_s']:.1f} s "
+            f"(end-to-end ratio {r2:.3f}), --every 1 {speed['every1_s']:.1f} s (speed-up {r3:.2f}x), "
+            f"key-frame decode alone {speed['decode_key_s']:.1f} s; rendering {speed['render_s']:.1f} s"
+        )
+    bad = table.failed()
+    print(f"\nreference harness took {time.perf_counter() - t0:.0f} s")
+    print(f"{len(table.rows) - len(bad)} passed, {len(bad)} failed")
+    return 1 if bad else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
