@@ -5,9 +5,30 @@
 //! the middle of a sequence) is `Delivery::Unreadable` and the run goes on; a [`SourceError`] means the
 //! source cannot continue at all.
 
-use crate::frame::Frame;
+use crate::frame::{Channel, Frame};
 use crate::units::Seconds;
+use std::path::{Path, PathBuf};
 use thiserror::Error;
+
+mod annexb;
+mod ffmpeg;
+mod h264;
+mod natural;
+mod pixels;
+mod sequence;
+mod thin;
+mod times;
+
+pub use ffmpeg::{ffmpeg_available, FfmpegSource};
+pub use h264::BuiltinH264Source;
+pub use natural::natural_cmp;
+pub use sequence::ImageSequence;
+pub use thin::{keyframes_suffice, Thinner};
+pub use times::read_times;
+
+/// How to advise a user who needs the `ffmpeg` program.
+pub const INSTALL_FFMPEG: &str =
+    "install the ffmpeg program (one command per platform in the README, 'Video input')";
 
 /// What a source yields for each frame position.
 #[derive(Debug, Clone)]
@@ -48,6 +69,21 @@ pub enum SourceError {
     },
     #[error("{origin}: {message}")]
     Decode { origin: String, message: String },
+    /// The video ended early: frames up to `frames` were delivered, then decoding stopped.
+    #[error("{origin}: decoding stopped after {frames} frames (last good frame at t = {t_s:.3} s): {message}; the file looks truncated, the rows before that point are kept")]
+    Truncated {
+        origin: String,
+        frames: u64,
+        t_s: f64,
+        message: String,
+    },
+    /// The file needs a decoder this build cannot run.
+    #[error("{path}: {codec}: {advice}")]
+    NeedsDecoder {
+        path: String,
+        codec: String,
+        advice: String,
+    },
     #[error("{path}: {source}")]
     Io {
         path: String,
@@ -62,4 +98,88 @@ pub trait FrameSource {
     fn info(&self) -> &SourceInfo;
     /// The next frame, `None` at the end.
     fn next_delivery(&mut self) -> Option<Result<Delivery, SourceError>>;
+}
+
+/// Which decoder reads video files.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum)]
+pub enum VideoDecoder {
+    /// The `ffmpeg` program when it is on PATH, else the built-in H.264 reader.
+    #[default]
+    Auto,
+    /// Always the `ffmpeg` program.
+    Ffmpeg,
+    /// Always the built-in reader (MP4 with H.264 without B-frames).
+    Builtin,
+}
+
+/// How to open a source from a path.
+#[derive(Debug, Clone, Default)]
+pub struct OpenOptions {
+    /// Which colour channel becomes the plane.
+    pub channel: Channel,
+    /// Keep at most one frame per interval of this length.
+    pub every: Option<Seconds>,
+    /// Frame rate of an image sequence without a times file.
+    pub fps: Option<f64>,
+    /// Times file of an image sequence (`file,t_s`), instead of the folder's `times.csv`.
+    pub times: Option<PathBuf>,
+    pub decoder: VideoDecoder,
+}
+
+/// File extensions read as still images.
+pub const IMAGE_EXTENSIONS: [&str; 6] = ["png", "jpg", "jpeg", "tif", "tiff", "bmp"];
+
+pub(crate) fn is_image_path(p: &Path) -> bool {
+    p.extension()
+        .and_then(|e| e.to_str())
+        .map(|e| IMAGE_EXTENSIONS.contains(&e.to_ascii_lowercase().as_str()))
+        .unwrap_or(false)
+}
+
+/// Open whatever `path` names: a folder of images, a glob pattern of images (`runs/*.png`), or a
+/// video file.
+pub fn open(path: &Path, opts: &OpenOptions) -> Result<Box<dyn FrameSource>, SourceError> {
+    if let Some(e) = opts.every {
+        if !(e.0.is_finite() && e.0 > 0.0) {
+            return Err(SourceError::Invalid {
+                path: path.display().to_string(),
+                message: format!(
+                    "--every {} is not a positive number of seconds; give e.g. --every 1",
+                    e.0
+                ),
+            });
+        }
+    }
+    let text = path.to_string_lossy();
+    let looks_glob = text.contains(['*', '?', '[']);
+    if path.is_dir() || (looks_glob && !path.exists()) {
+        return Ok(Box::new(ImageSequence::open(path, opts)?));
+    }
+    if !path.exists() {
+        return Err(SourceError::Missing {
+            path: path.display().to_string(),
+        });
+    }
+    if is_image_path(path) {
+        return Err(SourceError::Invalid {
+            path: path.display().to_string(),
+            message: "a single image is not a run; give the folder that holds the image sequence (or a pattern such as 'frames/*.png')".into(),
+        });
+    }
+    if opts.fps.is_some() || opts.times.is_some() {
+        return Err(SourceError::Invalid {
+            path: path.display().to_string(),
+            message: "a video carries its own frame times; --fps and --times apply to image sequences only".into(),
+        });
+    }
+    let use_ffmpeg = match opts.decoder {
+        VideoDecoder::Ffmpeg => true,
+        VideoDecoder::Builtin => false,
+        VideoDecoder::Auto => ffmpeg_available(),
+    };
+    if use_ffmpeg {
+        Ok(Box::new(FfmpegSource::open(path, opts)?))
+    } else {
+        Ok(Box::new(BuiltinH264Source::open(path, opts)?))
+    }
 }

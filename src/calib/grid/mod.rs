@@ -1,0 +1,368 @@
+//! Finding a printed square grid of dark lines in a screen image, seen in perspective under uneven light.
+//!
+//! 1. Darkness: each pixel's shortfall from the local paper brightness (a block maximum, smoothed), so
+//!    uneven light drops out.
+//! 2. Repeat: the two lattice vectors of the darkness near the origin hint, from its autocorrelation
+//!    ([`period`]); a weak repeat means no grid, or one too blurred or faint to use.
+//! 3. Growth: from the intersection nearest the hint, neighbours are predicted by continuing the local
+//!    steps (which follow the perspective), looked for as peaks of the smoothed darkness, and refined to
+//!    subpixel precision ([`refine`]); each carries its lattice indices.
+//! 4. Axes: x runs along the grid direction closest to the image horizontal and grows to the right, y
+//!    grows towards the top of the image; the origin is the intersection nearest the hint.
+
+pub mod period;
+pub mod refine;
+
+use super::homography::{fit_all, PointPair};
+use super::CalibError;
+use crate::units::{PixelPoint, ScreenPoint};
+use image::{ImageBuffer, Luma};
+use std::collections::{HashMap, VecDeque};
+
+/// A single-channel float image, row-major.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Gray {
+    pub w: usize,
+    pub h: usize,
+    pub data: Vec<f32>,
+}
+
+impl Gray {
+    pub fn new(w: usize, h: usize, data: Vec<f32>) -> Self {
+        Self { w, h, data }
+    }
+    pub fn from_image(img: &ImageBuffer<Luma<f32>, Vec<f32>>) -> Self {
+        Self::new(
+            img.width() as usize,
+            img.height() as usize,
+            img.as_raw().clone(),
+        )
+    }
+    fn to_image(&self) -> ImageBuffer<Luma<f32>, Vec<f32>> {
+        ImageBuffer::from_raw(self.w as u32, self.h as u32, self.data.clone())
+            .unwrap_or_else(|| ImageBuffer::new(self.w as u32, self.h as u32))
+    }
+    #[inline]
+    pub fn at(&self, x: usize, y: usize) -> f32 {
+        self.data[y * self.w + x]
+    }
+    /// Bilinear value at (x, y) with pixel centres at integers; None outside the image.
+    pub fn bilinear(&self, x: f64, y: f64) -> Option<f64> {
+        if !(x >= 0.0 && y >= 0.0 && x <= (self.w - 1) as f64 && y <= (self.h - 1) as f64) {
+            return None;
+        }
+        let (x0, y0) = (x.floor() as usize, y.floor() as usize);
+        let (x1, y1) = ((x0 + 1).min(self.w - 1), (y0 + 1).min(self.h - 1));
+        let (fx, fy) = (x - x0 as f64, y - y0 as f64);
+        let a = self.at(x0, y0) as f64 * (1.0 - fx) + self.at(x1, y0) as f64 * fx;
+        let b = self.at(x0, y1) as f64 * (1.0 - fx) + self.at(x1, y1) as f64 * fx;
+        Some(a * (1.0 - fy) + b * fy)
+    }
+}
+
+/// What the grid search found.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GridDetection {
+    /// One pair per intersection: its subpixel image position and its screen position, mm.
+    pub pairs: Vec<PointPair>,
+    /// Number of distinct grid lines seen: (lines of constant x, lines of constant y).
+    pub lines: (usize, usize),
+    /// Spacing of the lines near the origin, px.
+    pub spacing_px: f64,
+}
+
+type P = (f64, f64);
+
+fn norm(p: P) -> f64 {
+    (p.0 * p.0 + p.1 * p.1).sqrt()
+}
+
+/// Darkness relative to the local paper level: 1 - I / paper, clipped at 0.
+fn darkness(img: &Gray) -> Gray {
+    let f = 8usize;
+    let (sw, sh) = (img.w.div_ceil(f), img.h.div_ceil(f));
+    let mut small = vec![0f32; sw * sh];
+    for y in 0..img.h {
+        for x in 0..img.w {
+            let s = &mut small[(y / f) * sw + x / f];
+            *s = s.max(img.at(x, y));
+        }
+    }
+    let small = Gray::new(sw, sh, small);
+    let sigma = (sw.max(sh) as f32 / 40.0).max(1.5);
+    let paper = Gray::from_image(&imageproc::filter::gaussian_blur_f32(
+        &small.to_image(),
+        sigma,
+    ));
+    let mut out = vec![0f32; img.w * img.h];
+    for y in 0..img.h {
+        let sy = ((y as f64 + 0.5) / f as f64 - 0.5).clamp(0.0, (sh - 1) as f64);
+        for x in 0..img.w {
+            let sx = ((x as f64 + 0.5) / f as f64 - 0.5).clamp(0.0, (sw - 1) as f64);
+            let p = paper.bilinear(sx, sy).unwrap_or(1.0).max(1e-6);
+            out[y * img.w + x] = (1.0 - img.at(x, y) as f64 / p).max(0.0) as f32;
+        }
+    }
+    Gray::new(img.w, img.h, out)
+}
+
+/// Position of the largest value within `r` px of `p` (integer pixels), if inside the image by `margin`.
+fn peak_near(s: &Gray, p: P, r: f64, margin: f64) -> Option<(P, f64)> {
+    let mut best: Option<(P, f64)> = None;
+    let ri = r.ceil() as i64;
+    let (cx, cy) = (p.0.round() as i64, p.1.round() as i64);
+    for y in cy - ri..=cy + ri {
+        for x in cx - ri..=cx + ri {
+            let (xf, yf) = (x as f64, y as f64);
+            if (xf - p.0).powi(2) + (yf - p.1).powi(2) > r * r {
+                continue;
+            }
+            if xf < margin
+                || yf < margin
+                || xf > s.w as f64 - 1.0 - margin
+                || yf > s.h as f64 - 1.0 - margin
+            {
+                continue;
+            }
+            let v = s.at(x as usize, y as usize) as f64;
+            if best.is_none_or(|b| v > b.1) {
+                best = Some(((xf, yf), v));
+            }
+        }
+    }
+    best
+}
+
+/// How much darker an intersection is than the four cell centres around it (smoothed darkness).
+fn crossing_contrast(s: &Gray, c: P, u: P, v: P) -> Option<f64> {
+    let centre = s.bilinear(c.0, c.1)?;
+    let mut cells = 0.0;
+    for (a, b) in [(0.5, 0.5), (0.5, -0.5), (-0.5, 0.5), (-0.5, -0.5)] {
+        cells += s.bilinear(c.0 + a * u.0 + b * v.0, c.1 + a * u.1 + b * v.1)? / 4.0;
+    }
+    Some(centre - cells)
+}
+
+struct Node {
+    p: P,
+    /// Local steps to the +i and +j neighbours.
+    u: P,
+    v: P,
+}
+
+/// Find the grid, index its intersections and give each its screen position in mm.
+pub fn detect(
+    img: &ImageBuffer<Luma<f32>, Vec<f32>>,
+    name: &str,
+    pitch_mm: f64,
+    origin: Option<PixelPoint>,
+) -> Result<GridDetection, CalibError> {
+    let fail = |reason: String| CalibError::Grid {
+        image: name.to_string(),
+        reason,
+    };
+    let gray = Gray::from_image(img);
+    if gray.w < 16 || gray.h < 16 {
+        return Err(fail(format!("the image is only {}x{} px", gray.w, gray.h)));
+    }
+    let hint = origin
+        .map(|o| (o.x, o.y))
+        .unwrap_or(((gray.w as f64 - 1.0) / 2.0, (gray.h as f64 - 1.0) / 2.0));
+    if !(hint.0 >= 0.0 && hint.1 >= 0.0 && hint.0 < gray.w as f64 && hint.1 < gray.h as f64) {
+        return Err(fail(format!(
+            "the origin hint ({}, {}) px is outside the {}x{} px image",
+            hint.0, hint.1, gray.w, gray.h
+        )));
+    }
+    let d = darkness(&gray);
+    let n = 256.min(gray.w).min(gray.h);
+    let per = period::lattice(&d, hint.0, hint.1, n).ok_or_else(|| {
+        fail(
+            "no repeating pattern of dark lines near the origin; is the grid in view and lit?"
+                .into(),
+        )
+    })?;
+    let (lu, lv) = (norm(per.u), norm(per.v));
+    let spacing = 0.5 * (lu + lv);
+    if per.strength < 0.04 {
+        return Err(fail(format!(
+            "no repeating pattern of dark lines near the origin (repeat strength {:.3}); \
+             is the grid in view, lit and in focus?",
+            per.strength
+        )));
+    }
+    if per.strength < 0.15 {
+        return Err(fail(format!(
+            "the grid is too blurred or too faint: its lines repeat every {spacing:.1} px but stand out \
+             only weakly from noise (repeat strength {:.2}, need 0.15); focus the camera and light the \
+             screen evenly",
+            per.strength
+        )));
+    }
+    if lu / lv > 1.6 || lv / lu > 1.6 {
+        return Err(fail(format!(
+            "inconsistent pitch: the two line directions repeat every {lu:.1} px and {lv:.1} px; a square \
+             grid should give about equal spacings"
+        )));
+    }
+    if spacing < 3.0 {
+        return Err(fail(format!(
+            "the lines are only {spacing:.1} px apart, too close to locate; move the camera closer or use \
+             a coarser grid"
+        )));
+    }
+    let s = Gray::from_image(&imageproc::filter::gaussian_blur_f32(
+        &d.to_image(),
+        (0.25 * spacing).max(0.7) as f32,
+    ));
+    let margin = 0.8 * spacing;
+    let (seed_px, _) = peak_near(&s, hint, 0.75 * spacing, margin)
+        .ok_or_else(|| fail("the origin hint is too close to the image edge".into()))?;
+    let seed = refine::intersection(&d, seed_px, per.u, per.v).ok_or_else(|| {
+        fail(format!(
+            "the grid is too blurred: the lines near the origin ({:.0}, {:.0}) px cannot be located",
+            seed_px.0, seed_px.1
+        ))
+    })?;
+    let c0 = crossing_contrast(&s, seed, per.u, per.v).unwrap_or(0.0);
+    if c0.is_nan() || c0 <= 0.0 {
+        return Err(fail(
+            "the pattern near the origin has no line crossings darker than the cells; is it a grid of dark lines on light paper?"
+                .into(),
+        ));
+    }
+    let mut nodes: HashMap<(i32, i32), Node> = HashMap::new();
+    nodes.insert(
+        (0, 0),
+        Node {
+            p: seed,
+            u: per.u,
+            v: per.v,
+        },
+    );
+    let mut queue = VecDeque::from([(0i32, 0i32)]);
+    let max_nodes = 40_000;
+    while let Some(key) = queue.pop_front() {
+        if nodes.len() >= max_nodes {
+            break;
+        }
+        let (p, u, v) = {
+            let n = &nodes[&key];
+            (n.p, n.u, n.v)
+        };
+        for (di, dj) in [(1, 0), (-1, 0), (0, 1), (0, -1)] {
+            let nk = (key.0 + di, key.1 + dj);
+            if nodes.contains_key(&nk) {
+                continue;
+            }
+            let back = (key.0 - di, key.1 - dj);
+            // Continue the step we came along if known (follows the perspective), else the local vector.
+            let step = match nodes.get(&back) {
+                Some(b) => (p.0 - b.p.0, p.1 - b.p.1),
+                None => {
+                    let base = if di != 0 { u } else { v };
+                    let sgn = (di + dj) as f64;
+                    (sgn * base.0, sgn * base.1)
+                }
+            };
+            let pred = (p.0 + step.0, p.1 + step.1);
+            let r = 0.3 * norm(step);
+            let Some((cand, _)) = peak_near(&s, pred, r, margin) else {
+                continue;
+            };
+            let (nu, nv) = if di != 0 {
+                ((di as f64 * step.0, di as f64 * step.1), v)
+            } else {
+                (u, (dj as f64 * step.0, dj as f64 * step.1))
+            };
+            if crossing_contrast(&s, cand, nu, nv).is_none_or(|c| c < 0.3 * c0) {
+                continue;
+            }
+            let Some(q) = refine::intersection(&d, cand, nu, nv) else {
+                continue;
+            };
+            if norm((q.0 - pred.0, q.1 - pred.1)) > 0.35 * norm(step) {
+                continue;
+            }
+            nodes.insert(nk, Node { p: q, u: nu, v: nv });
+            queue.push_back(nk);
+        }
+    }
+    let is: std::collections::BTreeSet<i32> = nodes.keys().map(|k| k.0).collect();
+    let js: std::collections::BTreeSet<i32> = nodes.keys().map(|k| k.1).collect();
+    if is.len() < 3 || js.len() < 3 || nodes.len() < 9 {
+        return Err(fail(format!(
+            "too few lines: found crossings of only {} x {} lines ({} intersections); at least 3 lines \
+             each way must be visible",
+            is.len(),
+            js.len(),
+            nodes.len()
+        )));
+    }
+    // Axes: x along the lattice direction closest to the image horizontal, to the right; y up the image.
+    let (u, v) = (per.u, per.v);
+    let u_is_x = u.0.abs() / lu >= v.0.abs() / lv;
+    let (ax, ay) = if u_is_x { (u, v) } else { (v, u) };
+    let sx = if ax.0 >= 0.0 { 1 } else { -1 };
+    let sy = if ay.1 <= 0.0 { 1 } else { -1 };
+    let grid_xy = |k: &(i32, i32)| {
+        if u_is_x {
+            (sx * k.0, sy * k.1)
+        } else {
+            (sx * k.1, sy * k.0)
+        }
+    };
+    let origin_key = nodes
+        .iter()
+        .min_by(|a, b| {
+            let da = norm((a.1.p.0 - hint.0, a.1.p.1 - hint.1));
+            let db = norm((b.1.p.0 - hint.0, b.1.p.1 - hint.1));
+            da.total_cmp(&db)
+        })
+        .map(|(k, _)| grid_xy(k))
+        .unwrap_or((0, 0));
+    let mut keyed: Vec<((i32, i32), P)> = nodes
+        .iter()
+        .map(|(k, n)| {
+            let g = grid_xy(k);
+            ((g.0 - origin_key.0, g.1 - origin_key.1), n.p)
+        })
+        .collect();
+    keyed.sort_by_key(|(g, _)| (-g.1, g.0));
+    let pairs: Vec<PointPair> = keyed
+        .iter()
+        .map(|&((gx, gy), p)| PointPair {
+            pixel: PixelPoint { x: p.0, y: p.1 },
+            screen: ScreenPoint {
+                x_mm: gx as f64 * pitch_mm,
+                y_mm: gy as f64 * pitch_mm,
+            },
+            label: format!("grid ({gx}, {gy})"),
+        })
+        .collect();
+    // The intersections must sit on a square grid seen in perspective.
+    let fit = fit_all(&pairs)?;
+    let bad = fit
+        .residual_px
+        .iter()
+        .filter(|&&e| e > 0.25 * spacing)
+        .count();
+    if bad * 10 > pairs.len() {
+        return Err(fail(format!(
+            "inconsistent pitch: {bad} of {} intersections are more than a quarter of a spacing off a \
+             square grid seen in perspective (RMS {:.2} px); is the grid printed evenly and flat?",
+            pairs.len(),
+            fit.rms_px()
+        )));
+    }
+    let (nx, ny) = if u_is_x {
+        (is.len(), js.len())
+    } else {
+        (js.len(), is.len())
+    };
+    Ok(GridDetection {
+        pairs,
+        lines: (nx, ny),
+        spacing_px: spacing,
+    })
+}

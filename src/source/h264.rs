@@ -1,0 +1,316 @@
+//! The built-in video reader, for machines without the `ffmpeg` program: MP4 files holding H.264
+//! without B-frames, demuxed by the `mp4` crate and decoded by the bundled OpenH264 decoder.
+//!
+//! That decoder cannot decode B-frames, so files that reorder frames (a composition-offset table with
+//! non-zero offsets, or any B slice) are refused with advice to install ffmpeg, never decoded into
+//! garbage. Luma is the decoder's Y plane expanded from studio range (16–235) to 0–255, which is
+//! what the ffmpeg path delivers for the same file.
+
+use super::annexb::{push_nal, slice_kind, split_length_prefixed, SliceKind};
+use super::thin::Thinner;
+use super::{Delivery, FrameSource, OpenOptions, SourceError, SourceInfo, INSTALL_FFMPEG};
+use crate::frame::{Channel, Frame};
+use crate::units::Seconds;
+use openh264::decoder::Decoder;
+use openh264::formats::YUVSource;
+use std::fs::File;
+use std::io::{BufReader, Read};
+use std::path::{Path, PathBuf};
+
+/// An MP4/H.264 file decoded in-process.
+pub struct BuiltinH264Source {
+    info: SourceInfo,
+    path: PathBuf,
+    reader: mp4::Mp4Reader<BufReader<File>>,
+    decoder: Decoder,
+    track: u32,
+    samples: u32,
+    next_sample: u32,
+    len_size: usize,
+    headers: Vec<u8>,
+    timescale: f64,
+    first_pts: Option<i64>,
+    channel: Channel,
+    thin: Thinner,
+    last_t: f64,
+    done: bool,
+    rgb: Vec<u8>,
+}
+
+fn container_guess(path: &Path) -> (String, String) {
+    let mut head = vec![0u8; 1 << 16];
+    let n = File::open(path)
+        .and_then(|mut f| f.read(&mut head))
+        .unwrap_or(0);
+    let head = &head[..n];
+    if head.len() >= 12 && &head[..4] == b"RIFF" && &head[8..12] == b"AVI " {
+        let codec = head
+            .windows(4)
+            .position(|w| w == b"vids")
+            .and_then(|i| head.get(i + 4..i + 8))
+            .map(|c| String::from_utf8_lossy(c).trim().to_string())
+            .unwrap_or_else(|| "unknown".into());
+        return ("AVI".into(), format!("video codec '{codec}'"));
+    }
+    if head.starts_with(&[0x1a, 0x45, 0xdf, 0xa3]) {
+        return ("Matroska/WebM".into(), "codec not read".into());
+    }
+    if head.len() >= 8 && &head[4..8] == b"ftyp" {
+        return ("MP4/QuickTime".into(), "codec not read".into());
+    }
+    ("unknown container".into(), "codec not read".into())
+}
+
+impl BuiltinH264Source {
+    pub fn open(path: &Path, opts: &OpenOptions) -> Result<Self, SourceError> {
+        let shown = path.display().to_string();
+        let file = File::open(path).map_err(|source| match source.kind() {
+            std::io::ErrorKind::NotFound => SourceError::Missing {
+                path: shown.clone(),
+            },
+            _ => SourceError::Io {
+                path: shown.clone(),
+                source,
+            },
+        })?;
+        let size = file
+            .metadata()
+            .map_err(|source| SourceError::Io {
+                path: shown.clone(),
+                source,
+            })?
+            .len();
+        let needs = |codec: String, why: &str| {
+            SourceError::NeedsDecoder {
+            path: shown.clone(),
+            codec,
+            advice: format!("{why}; the built-in reader handles only MP4 with H.264 without B-frames: {INSTALL_FFMPEG}"),
+        }
+        };
+        let reader = match mp4::Mp4Reader::read_header(BufReader::new(file), size) {
+            Ok(r) => r,
+            Err(e) => {
+                let (container, codec) = container_guess(path);
+                if container == "MP4/QuickTime" {
+                    return Err(needs(
+                        format!("{container}, {codec}"),
+                        &format!(
+                            "cannot read its index ({e}); a recording cut short often lacks it"
+                        ),
+                    ));
+                }
+                return Err(needs(format!("{container}, {codec}"), "not an MP4 file"));
+            }
+        };
+        let Some(track) = reader
+            .tracks()
+            .values()
+            .find(|t| matches!(t.track_type(), Ok(mp4::TrackType::Video)))
+        else {
+            return Err(needs(
+                "no video track".into(),
+                "no video track in this MP4 file",
+            ));
+        };
+        let stbl = &track.trak.mdia.minf.stbl;
+        let Some(avc1) = stbl.stsd.avc1.as_ref() else {
+            let codec = if stbl.stsd.hev1.is_some() {
+                "HEVC (H.265)".to_string()
+            } else if stbl.stsd.vp09.is_some() {
+                "VP9".to_string()
+            } else {
+                track
+                    .box_type()
+                    .map(|b| format!("codec '{b}'"))
+                    .unwrap_or_else(|_| "a codec other than H.264".into())
+            };
+            return Err(needs(codec, "the built-in decoder reads only H.264"));
+        };
+        if stbl
+            .ctts
+            .as_ref()
+            .is_some_and(|c| c.entries.iter().any(|e| e.sample_offset != 0))
+        {
+            return Err(needs(
+                "H.264 with B-frames".into(),
+                "frames are stored out of display order (B-frames), which the built-in decoder cannot decode",
+            ));
+        }
+        let mut headers = Vec::new();
+        for s in &avc1.avcc.sequence_parameter_sets {
+            push_nal(&mut headers, &s.bytes);
+        }
+        for p in &avc1.avcc.picture_parameter_sets {
+            push_nal(&mut headers, &p.bytes);
+        }
+        let len_size = (avc1.avcc.length_size_minus_one & 3) as usize + 1;
+        let (track_id, samples, timescale) = (
+            track.track_id(),
+            track.sample_count(),
+            track.timescale() as f64,
+        );
+        let (w, h) = (track.width() as usize, track.height() as usize);
+        let decoder = Decoder::new().map_err(|e| SourceError::Decode {
+            origin: shown.clone(),
+            message: format!("cannot start the built-in H.264 decoder: {e}"),
+        })?;
+        let expected = match opts.every {
+            None => Some(samples as u64),
+            Some(e) => {
+                let d = track.duration().as_secs_f64();
+                Some((d / e.0).ceil() as u64)
+            }
+        };
+        let name = path
+            .file_name()
+            .map(|n| n.to_string_lossy().into_owned())
+            .unwrap_or_default();
+        Ok(Self {
+            info: SourceInfo {
+                description: format!("{name}: h264 {w}x{h}, built-in decoder"),
+                width: w,
+                height: h,
+                expected_frames: expected,
+            },
+            path: path.to_path_buf(),
+            reader,
+            decoder,
+            track: track_id,
+            samples,
+            next_sample: 1,
+            len_size,
+            headers,
+            timescale: if timescale > 0.0 { timescale } else { 1.0 },
+            first_pts: None,
+            channel: opts.channel,
+            thin: Thinner::new(opts.every),
+            last_t: 0.0,
+            done: false,
+            rgb: Vec::new(),
+        })
+    }
+
+    fn truncated(
+        &mut self,
+        decoded: u64,
+        message: String,
+    ) -> Option<Result<Delivery, SourceError>> {
+        self.done = true;
+        Some(Err(SourceError::Truncated {
+            origin: self.path.display().to_string(),
+            frames: decoded,
+            t_s: self.last_t,
+            message,
+        }))
+    }
+}
+
+impl FrameSource for BuiltinH264Source {
+    fn info(&self) -> &SourceInfo {
+        &self.info
+    }
+
+    fn next_delivery(&mut self) -> Option<Result<Delivery, SourceError>> {
+        loop {
+            if self.done || self.next_sample > self.samples {
+                return None;
+            }
+            let id = self.next_sample;
+            let index = (id - 1) as u64;
+            self.next_sample += 1;
+            let sample = match self.reader.read_sample(self.track, id) {
+                Ok(Some(s)) => s,
+                Ok(None) => return None,
+                Err(e) => {
+                    return self.truncated(
+                        index,
+                        format!("frame {index} cannot be read from the file ({e})"),
+                    )
+                }
+            };
+            let pts = sample.start_time as i64 + sample.rendering_offset as i64;
+            let first = *self.first_pts.get_or_insert(pts);
+            let t = Seconds((pts - first) as f64 / self.timescale);
+            let origin = format!("frame {index} of {}", self.path.display());
+            let Some(nals) = split_length_prefixed(&sample.bytes, self.len_size) else {
+                self.last_t = t.0;
+                if self.thin.keep(t) {
+                    return Some(Ok(Delivery::Unreadable {
+                        index,
+                        t,
+                        origin,
+                        reason: "NAL unit lengths overrun the sample".into(),
+                    }));
+                }
+                continue;
+            };
+            let mut annexb = if id == 1 {
+                std::mem::take(&mut self.headers)
+            } else {
+                Vec::new()
+            };
+            for nal in &nals {
+                if slice_kind(nal) == Some(SliceKind::B) {
+                    self.done = true;
+                    return Some(Err(SourceError::NeedsDecoder {
+                        path: self.path.display().to_string(),
+                        codec: format!("H.264 with B-frames (first at frame {index})"),
+                        advice: format!(
+                            "the built-in decoder cannot decode B-frames: {INSTALL_FFMPEG}"
+                        ),
+                    }));
+                }
+                push_nal(&mut annexb, nal);
+            }
+            let keep = self.thin.keep(t);
+            self.last_t = t.0;
+            let decoded = self.decoder.decode(&annexb);
+            if !keep {
+                continue;
+            }
+            let yuv = match decoded {
+                Ok(Some(yuv)) => yuv,
+                Ok(None) => {
+                    return Some(Ok(Delivery::Unreadable {
+                        index,
+                        t,
+                        origin,
+                        reason: "the decoder returned no picture".into(),
+                    }))
+                }
+                Err(e) => {
+                    return Some(Ok(Delivery::Unreadable {
+                        index,
+                        t,
+                        origin,
+                        reason: format!("H.264 decoding failed: {e}"),
+                    }))
+                }
+            };
+            let (w, h) = yuv.dimensions();
+            if (w, h) != (self.info.width, self.info.height) {
+                self.done = true;
+                return Some(Err(SourceError::Decode {
+                    origin,
+                    message: format!(
+                        "picture is {w}x{h} but the track says {}x{}",
+                        self.info.width, self.info.height
+                    ),
+                }));
+            }
+            let plane = if self.channel == Channel::Luma {
+                super::pixels::plane_from_limited_luma(w, h, yuv.y(), yuv.strides().0)
+            } else {
+                self.rgb.resize(w * h * 3, 0);
+                yuv.write_rgb8(&mut self.rgb);
+                super::pixels::plane_from_rgb24(w, h, &self.rgb, self.channel)
+            };
+            return Some(Ok(Delivery::Frame(Frame {
+                index,
+                t,
+                plane,
+                origin,
+            })));
+        }
+    }
+}
