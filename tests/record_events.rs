@@ -6,7 +6,6 @@ mod record_support;
 use record_support::*;
 use spotlever::export::track_csv::read_track;
 use std::io::Write;
-use std::process::Stdio;
 use std::time::Duration;
 
 #[test]
@@ -15,18 +14,7 @@ fn marked_events_are_written_and_quit_closes() {
     let seq = tmp.path().join("seq");
     write_sequence(&seq, 100, 20.0);
     let run = run_dir(tmp.path());
-    let mut child = bin()
-        .arg("record")
-        .arg("--source")
-        .arg(&seq)
-        .arg("--out")
-        .arg(&run)
-        .args(["--speed", "1"])
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .unwrap();
+    let mut child = spawn_record(&seq, &run, &["--speed", "1"]);
     let mut stdin = child.stdin.take().unwrap();
     wait_for_lines(&run.join("track.csv"), 10, Duration::from_secs(30));
     writeln!(stdin, "m").unwrap();

@@ -7,7 +7,6 @@ use record_support::*;
 use spotlever::export::track_csv::read_track;
 use spotlever::record::run_dir::read_meta;
 use spotlever::source::{self, Delivery, OpenOptions};
-use std::process::Stdio;
 use std::time::{Duration, SystemTime, UNIX_EPOCH};
 
 #[test]
@@ -18,18 +17,7 @@ fn sigkill_loses_at_most_the_last_second() {
     // 10 s of frames at the recorded pace.
     let times = write_sequence(&seq, 200, fps);
     let run = run_dir(tmp.path());
-    let mut child = bin()
-        .arg("record")
-        .arg("--source")
-        .arg(&seq)
-        .arg("--out")
-        .arg(&run)
-        .args(["--speed", "1", "--keep-every", "10"])
-        .stdin(Stdio::null())
-        .stdout(Stdio::null())
-        .stderr(Stdio::piped())
-        .spawn()
-        .unwrap();
+    let mut child = spawn_record(&seq, &run, &["--speed", "1", "--keep-every", "10"]);
     wait_for_lines(&run.join("track.csv"), 10, Duration::from_secs(30));
     std::thread::sleep(Duration::from_secs(5));
     child.kill().unwrap(); // SIGKILL

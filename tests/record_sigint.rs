@@ -6,7 +6,6 @@ mod record_support;
 use record_support::*;
 use spotlever::export::track_csv::read_track;
 use spotlever::record::run_dir::read_meta;
-use std::process::Stdio;
 use std::time::Duration;
 
 #[test]
@@ -15,18 +14,7 @@ fn sigint_closes_with_summary() {
     let seq = tmp.path().join("seq");
     write_sequence(&seq, 100, 20.0);
     let run = run_dir(tmp.path());
-    let child = bin()
-        .arg("record")
-        .arg("--source")
-        .arg(&seq)
-        .arg("--out")
-        .arg(&run)
-        .args(["--speed", "1", "--status-every", "0.5"])
-        .stdin(Stdio::piped()) // kept open: an idle stdin must not stop the run
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .unwrap();
+    let child = spawn_record(&seq, &run, &["--speed", "1", "--status-every", "0.5"]);
     wait_for_lines(&run.join("track.csv"), 20, Duration::from_secs(30));
     // SAFETY: plain kill(2) on our own child's pid.
     let rc = unsafe { libc::kill(child.id() as libc::pid_t, libc::SIGINT) };

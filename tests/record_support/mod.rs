@@ -96,3 +96,19 @@ pub fn wait_for_lines(path: &Path, rows: usize, limit: Duration) {
 pub fn run_dir(tmp: &Path) -> PathBuf {
     tmp.join("run")
 }
+
+/// Start `spotlever record --source SEQ --out RUN` plus `extra` with piped standard streams.
+pub fn spawn_record(seq: &Path, run: &Path, extra: &[&str]) -> std::process::Child {
+    bin()
+        .arg("record")
+        .arg("--source")
+        .arg(seq)
+        .arg("--out")
+        .arg(run)
+        .args(extra)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap()
+}
