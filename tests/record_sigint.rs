@@ -38,7 +38,7 @@ fn sigint_closes_with_summary() {
     let track = read_track(&run.join("track.csv")).unwrap();
     assert!(!track.truncated_tail);
     let n = track.rows.len();
-    assert!(n >= 19 && n < 100, "{n} rows");
+    assert!((19..100).contains(&n), "{n} rows");
     assert!(stdout.contains(&format!("frames      {n} ")), "{stdout}");
     let meta = read_meta(&run.join("run.toml")).unwrap();
     let s = &meta.sessions[0];

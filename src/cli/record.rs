@@ -80,6 +80,18 @@ pub struct RecordArgs {
     pub out: Option<PathBuf>,
 }
 
+/// Where frames come from and how the session treats them.
+struct Plan {
+    opener: Opener,
+    kind: &'static str,
+    name: String,
+    frame_interval_s: Option<f64>,
+    on_fault: OnFault,
+    run_per_wall: f64,
+    clock_times: bool,
+    size: (u32, u32),
+}
+
 fn parse_resolution(s: &str) -> anyhow::Result<(u32, u32)> {
     let bad = || format!("--resolution {s:?}: write it as WIDTHxHEIGHT, e.g. 1280x720");
     let (w, h) = s.split_once(['x', 'X']).with_context(bad)?;
@@ -143,16 +155,7 @@ pub fn run(args: RecordArgs) -> anyhow::Result<()> {
         None => None,
     };
 
-    let (opener, kind, name, frame_interval_s, on_fault, run_per_wall, clock_times, size): (
-        Opener,
-        &str,
-        String,
-        Option<f64>,
-        OnFault,
-        f64,
-        bool,
-        (u32, u32),
-    ) = match &args.source {
+    let plan = match &args.source {
         Some(path) => {
             if resolution.is_some() {
                 bail!("--resolution applies to cameras only; a replay keeps its recorded size");
@@ -176,16 +179,16 @@ pub fn run(args: RecordArgs) -> anyhow::Result<()> {
                 Pace::Factor(f) => f,
                 Pace::Max => 0.0,
             };
-            (
+            Plan {
                 opener,
-                "replay",
-                path.display().to_string(),
-                None,
-                OnFault::Stop,
-                per_wall,
-                false,
+                kind: "replay",
+                name: path.display().to_string(),
+                frame_interval_s: None,
+                on_fault: OnFault::Stop,
+                run_per_wall: per_wall,
+                clock_times: false,
                 size,
-            )
+            }
         }
         None => {
             if !camera::CAMERA_SUPPORT {
@@ -200,20 +203,30 @@ pub fn run(args: RecordArgs) -> anyhow::Result<()> {
             let (cam_name, w, h, cam_fps) = camera::describe_camera(&req)?;
             let clock = Instant::now();
             let opener: Opener = Box::new(move || camera::open_camera(&req, clock));
-            (
+            Plan {
                 opener,
-                "camera",
-                cam_name,
-                cam_fps.map(|f| 1.0 / f),
-                OnFault::Retry {
+                kind: "camera",
+                name: cam_name,
+                frame_interval_s: cam_fps.map(|f| 1.0 / f),
+                on_fault: OnFault::Retry {
                     every: Duration::from_secs(1),
                 },
-                1.0,
-                true,
-                (w, h),
-            )
+                run_per_wall: 1.0,
+                clock_times: true,
+                size: (w, h),
+            }
         }
     };
+    let Plan {
+        opener,
+        kind,
+        name,
+        frame_interval_s,
+        on_fault,
+        run_per_wall,
+        clock_times,
+        size,
+    } = plan;
     if let Some((p, c)) = &calibration {
         c.check_image_size(size.0, size.1)
             .with_context(|| format!("--calib {p}"))?;

@@ -8,7 +8,7 @@
 use crossterm::event::{self, Event, KeyCode, KeyEvent, KeyEventKind, KeyModifiers};
 use std::io::BufRead;
 use std::sync::atomic::{AtomicI32, Ordering};
-use std::sync::mpsc::{channel, Receiver, TryRecvError};
+use std::sync::mpsc::{channel, Receiver};
 use std::time::Duration;
 
 /// Label of an event marked with the key or with `m` alone.
@@ -107,15 +107,14 @@ impl Controls {
                     }
                 }
             }
-            Controls::Lines(rx) => loop {
-                match rx.try_recv() {
-                    Ok(line) => match command_for_line(&line) {
+            Controls::Lines(rx) => {
+                while let Ok(line) = rx.try_recv() {
+                    match command_for_line(&line) {
                         Ok(c) => out.extend(c),
                         Err(e) => warn(e),
-                    },
-                    Err(TryRecvError::Empty) | Err(TryRecvError::Disconnected) => break,
+                    }
                 }
-            },
+            }
             Controls::Nothing => {}
         }
         out
