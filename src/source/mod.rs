@@ -5,6 +5,8 @@
 //! the middle of a sequence) is `Delivery::Unreadable` and the run goes on; a [`SourceError`] means the
 //! source cannot continue at all.
 
+pub mod replay;
+
 use crate::frame::{Channel, Frame};
 use crate::units::Seconds;
 use std::path::{Path, PathBuf};
