@@ -18,10 +18,10 @@ fn demo_recovers_codata_g_within_twice_its_uncertainty() {
         String::from_utf8_lossy(&out.stdout),
         String::from_utf8_lossy(&out.stderr)
     );
-    let text = std::fs::read_to_string(out_dir.path().join("analysis.json")).unwrap();
+    let text = std::fs::read_to_string(out_dir.path().join("analysis/result.json")).unwrap();
     let a: serde_json::Value = serde_json::from_str(&text).unwrap();
-    let g = a["g"]["value"].as_f64().unwrap();
-    let u = a["g"]["u"].as_f64().unwrap();
+    let g = a["G"]["value"].as_f64().unwrap();
+    let u = a["G"]["u"].as_f64().unwrap();
     let (codata, u_codata) = (6.674_30e-11, 0.000_15e-11);
     assert!(u > 0.0 && u < 0.05 * g, "u = {u}");
     let combined = (u * u + u_codata * u_codata).sqrt();
@@ -31,6 +31,9 @@ fn demo_recovers_codata_g_within_twice_its_uncertainty() {
     );
     assert!(out_dir.path().join("track.csv").is_file());
     assert!(out_dir.path().join("calibration.toml").is_file());
+    for f in ["angle.csv", "segments.csv", "report.svg"] {
+        assert!(out_dir.path().join("analysis").join(f).is_file(), "{f}");
+    }
 }
 
 #[test]

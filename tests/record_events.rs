@@ -49,4 +49,14 @@ fn marked_events_are_written_and_quit_closes() {
     assert!(ev[0].0 >= t0 && ev[1].0 <= t1 + 0.1, "{ev:?} vs {t0}..{t1}");
     let gap = ev[1].0 - ev[0].0;
     assert!((gap - 0.5).abs() < 0.3, "{gap}");
+
+    // The analyzer's events reader (what `analyze --events` uses) reads the same events back.
+    let back = spotlever::analysis::read_events(&run.join("events.csv")).unwrap();
+    assert_eq!(back.len(), 2);
+    for (b, (t, label)) in back.iter().zip(&ev) {
+        assert!(
+            (b.t - t).abs() < 1e-9 && &b.label == label,
+            "{b:?} vs {t} {label}"
+        );
+    }
 }

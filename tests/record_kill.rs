@@ -74,14 +74,23 @@ fn sigkill_loses_at_most_the_last_second() {
 
     // Kept frames form an image sequence with the run's times.
     let mut kept = source::open(&run.join("frames"), &OpenOptions::default()).unwrap();
+    // A kept frame may be on disk while its track row was still in the writer's buffer at the kill:
+    // such frames are compared with nothing, and there are at most a second's worth of them.
     let mut n = 0;
+    let mut ahead_of_track = 0;
     while let Some(d) = kept.next_delivery() {
         let Delivery::Frame(f) = d.unwrap() else {
             panic!("unreadable kept frame")
         };
-        let row = &rows[n * 10];
-        assert!((f.t.0 - row.t.0).abs() < 1e-6);
+        match rows.get(n * 10) {
+            Some(row) => assert!((f.t.0 - row.t.0).abs() < 1e-6),
+            None => ahead_of_track += 1,
+        }
         n += 1;
     }
     assert!(n >= rows.len() / 10, "{n} kept of {}", rows.len());
+    assert!(
+        (ahead_of_track as f64) <= (fps / 10.0_f64).ceil() + 1.0,
+        "{ahead_of_track} kept frames are more than a second ahead of the track"
+    );
 }

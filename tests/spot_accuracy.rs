@@ -109,7 +109,7 @@ fn run(amp: f64, seed: u64) -> Outcome {
 
 #[test]
 fn unclipped_spot_is_located_near_the_cramer_rao_bound() {
-    // Floor from the requirement on this model: RMS <= 1.3 x the bound. The bound itself is computed
+    // Accepted: RMS <= 1.3 x the bound (an efficient estimator reaches 1.0). The bound itself is computed
     // above from the Fisher information (Kay vol. 1, ch. 3).
     let o = run(180.0, 1);
     let ratio = o.rms / o.rms_bound;

@@ -7,7 +7,7 @@ use spotlever::analysis::{self, AnalysisOptions};
 use spotlever::export::{angle_csv, report_svg, result_json, segments_csv, track_csv};
 use spotlever::physics::G_CODATA_2018;
 use spotlever::setup::Setup;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 #[derive(Debug, Args)]
 pub struct AnalyzeArgs {
@@ -47,13 +47,7 @@ pub fn run(args: AnalyzeArgs) -> anyhow::Result<()> {
     };
     let a = analysis::analyze(&samples, &setup, events.as_deref(), &opts)
         .with_context(|| format!("analysing {}", args.track.display()))?;
-    std::fs::create_dir_all(&args.out)
-        .with_context(|| format!("{}: cannot create the output folder", args.out.display()))?;
-    let p = |name: &str| args.out.join(name);
-    angle_csv::write_angle_csv(&p("angle.csv"), &samples, &a)?;
-    segments_csv::write_segments_csv(&p("segments.csv"), &a)?;
-    result_json::write_result_json(&p("result.json"), &a)?;
-    report_svg::write_report_svg(&p("report.svg"), &samples, &a)?;
+    write_outputs(&args.out, &samples, &a)?;
     print!("{}", summary(&a, without_position, track.truncated_tail));
     println!(
         "wrote angle.csv, segments.csv, result.json, report.svg in {}",
@@ -62,7 +56,24 @@ pub fn run(args: AnalyzeArgs) -> anyhow::Result<()> {
     Ok(())
 }
 
-fn summary(a: &analysis::Analysis, without_position: usize, truncated: bool) -> String {
+/// Write the analysis files (angle.csv, segments.csv, result.json, report.svg) into `out`.
+pub fn write_outputs(
+    out: &Path,
+    samples: &[analysis::Sample],
+    a: &analysis::Analysis,
+) -> anyhow::Result<()> {
+    std::fs::create_dir_all(out)
+        .with_context(|| format!("{}: cannot create the output folder", out.display()))?;
+    let p = |name: &str| out.join(name);
+    angle_csv::write_angle_csv(&p("angle.csv"), samples, a)?;
+    segments_csv::write_segments_csv(&p("segments.csv"), a)?;
+    result_json::write_result_json(&p("result.json"), a)?;
+    report_svg::write_report_svg(&p("report.svg"), samples, a)?;
+    Ok(())
+}
+
+/// The one-screen human summary of an analysis.
+pub fn summary(a: &analysis::Analysis, without_position: usize, truncated: bool) -> String {
     use std::fmt::Write;
     let mut s = String::new();
     let _ = writeln!(

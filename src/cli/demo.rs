@@ -119,34 +119,19 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
     let events = read_events(&data.join("events.csv"))?;
     let track = read_track(&track_path)?;
     let (samples, missing) = analysis::samples_from_track(&track, &analysis::lever_of(&setup))?;
-    if missing > 0 {
-        println!("{missing} frames had no usable spot and are gaps");
-    }
     let opts = AnalysisOptions {
         mc_draws: 20_000,
         ..AnalysisOptions::default()
     };
     let a = analysis::analyze(&samples, &setup, Some(&events), &opts)?;
-    let json_path = args.out.join("analysis.json");
-    std::fs::write(&json_path, serde_json::to_string_pretty(&a)?)
-        .with_context(|| format!("cannot write {}", json_path.display()))?;
-    for w in &a.warnings {
-        println!("note: {w}");
-    }
-    println!(
-        "period {:.2} ± {:.2} s, theta_G {:.4} ± {:.4} mrad",
-        a.period.value,
-        a.period.u,
-        a.deflection.theta_g.value * 1e3,
-        a.deflection.theta_g.u * 1e3
+    let results = args.out.join("analysis");
+    super::analyze::write_outputs(&results, &samples, &a)?;
+    print!(
+        "{}",
+        super::analyze::summary(&a, missing, track.truncated_tail)
     );
     let diff = a.g.value - G_CODATA_2018;
     let u_diff = (a.g.u * a.g.u + G_CODATA_2018_U * G_CODATA_2018_U).sqrt();
-    println!(
-        "G = ({:.4} ± {:.4}) e-11 m^3 kg^-1 s^-2 (standard uncertainty, GUM)",
-        a.g.value * 1e11,
-        a.g.u * 1e11
-    );
     println!(
         "simulated with CODATA 2018 G = 6.67430(15) e-11: difference {:+.2} % = {:+.2} standard uncertainties ({})",
         100.0 * diff / G_CODATA_2018,
@@ -158,10 +143,10 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
         }
     );
     println!(
-        "wrote {}, {}, {}",
+        "wrote {}, {} and angle.csv, segments.csv, result.json, report.svg in {}",
         calib_path.display(),
         track_path.display(),
-        json_path.display()
+        results.display()
     );
     Ok(())
 }
