@@ -25,6 +25,7 @@ mod background;
 mod centroid;
 mod fit;
 mod image;
+mod learned;
 mod measure;
 mod search;
 mod tracker;
@@ -207,7 +208,7 @@ pub fn locate(plane: &Plane, config: &SpotConfig) -> SpotFix {
     with_image(plane, |img| {
         let config = config.sanitised();
         match Rect::for_image(img.w, img.h, config.roi) {
-            Some(rect) => full_search(img, &rect, &config, &mut |b| b).0,
+            Some(rect) => full_search(img, &rect, &config, None, &mut |b| b).0,
             None => SpotFix::without_position(SpotStatus::Lost),
         }
     })
@@ -233,11 +234,13 @@ pub(crate) fn with_image<T>(plane: &Plane, f: impl FnOnce(&Img) -> T) -> T {
 }
 
 /// Coarse search of `rect` and measurement of the best candidate, with the background passed through
-/// `filter`. Returns the answer and the background used (when a spot was measured).
+/// `filter` (on top of the learned `screen`, where it covers the spot). Returns the answer and the
+/// background used (when a spot was measured).
 pub(crate) fn full_search(
     img: &Img,
     rect: &Rect,
     config: &SpotConfig,
+    screen: Option<&learned::ScreenModel>,
     filter: &mut dyn FnMut(LocalBackground) -> LocalBackground,
 ) -> (SpotFix, Option<LocalBackground>) {
     let found = search::coarse_search(img, rect, config.max_sigma_px);
@@ -250,7 +253,7 @@ pub(crate) fn full_search(
         return (SpotFix::without_position(SpotStatus::Lost), None);
     };
     let seed = measure::brightest_patch(img, rect, best.x, best.y, search::BLOCK);
-    let Some(m) = measure::measure(img, rect, seed, config, filter) else {
+    let Some(m) = measure::measure(img, rect, seed, config, screen, filter) else {
         return (SpotFix::without_position(SpotStatus::Lost), None);
     };
     let mut fix = judge(m.fix, config);
@@ -266,7 +269,26 @@ pub(crate) fn full_search(
 
 /// Turn a measurement into `Lost` when it does not stand out enough.
 pub(crate) fn judge(fix: SpotFix, config: &SpotConfig) -> SpotFix {
-    if fix.snr >= config.min_snr && fix.position.is_some() {
+    judge_with(fix, fix.snr >= config.min_snr)
+}
+
+/// The same for a spot already being followed, found again where it was predicted (hysteresis, common
+/// practice in tracking, no source): its peak may dip to half of `min_snr` while the whole spot stays
+/// clearly significant. The whole-spot figure is the amplitude over its standard error in white noise,
+/// peak sqrt(pi) sigma / noise (from sum g^2 = pi sigma^2 for a unit Gaussian sampled on the pixel
+/// grid), and must reach twice `min_snr`; a noise-only window stays far below that, because a narrow
+/// noise bump has a small sigma and a wide one a small peak.
+pub(crate) fn judge_tracked(fix: SpotFix, config: &SpotConfig) -> SpotFix {
+    let sigma = fix.width_px / std::f64::consts::SQRT_2;
+    let whole = fix.snr * std::f64::consts::PI.sqrt() * sigma;
+    judge_with(
+        fix,
+        fix.snr >= 0.5 * config.min_snr && whole >= 2.0 * config.min_snr,
+    )
+}
+
+fn judge_with(fix: SpotFix, stands_out: bool) -> SpotFix {
+    if stands_out && fix.position.is_some() {
         fix
     } else {
         SpotFix {
