@@ -11,15 +11,19 @@
 //!    [`SpotStatus::Ambiguous`];
 //! 2. local background (`background.rs`, see [`LocalBackground`]): a plane fitted robustly to a ring
 //!    of pixels just outside the spot's reach (ruling lines and clipped pixels trimmed), smoothed over
-//!    frames by the [`Tracker`];
+//!    frames by the [`Tracker`]. The [`Tracker`] also learns the still screen pixel by pixel where the
+//!    spot has moved away (`learned.rs`); where the spot's whole reach has been learned, that pattern is
+//!    subtracted first and the ring plane only follows changes of room light;
 //! 3. a thresholded, background-subtracted weighted centroid (`centroid.rs`);
 //! 4. a least-squares 2-D Gaussian fit (`fit.rs`, on the `levenberg-marquardt` crate) over the
 //!    unclipped pixels only, so a clipped core is located from its wings. The centroid is kept when
 //!    the fit fails or wanders off.
 //!
-//! Known limit: the fit assumes a smooth background under the spot. Ruling lines crossing a small spot
-//! distort it; on a 1 mm ruling seen at 4 px/mm with a sigma 3 px spot this costs about 0.07 to 0.17 px
-//! RMS (see `tests/spot_accuracy.rs`), far more than the noise-limited figure on plain paper.
+//! Known limit: without a learned screen (the one-shot [`locate`], a spot that has not moved, the first
+//! frames of a run) the fit assumes a smooth background under the spot. Ruling lines crossing a small
+//! spot distort it; on a 1 mm ruling seen at 4 px/mm with a sigma 3 px spot this costs about 0.07 to
+//! 0.17 px RMS (see `tests/spot_accuracy.rs`), far more than the noise-limited figure on plain paper,
+//! which a tracked, moving spot regains (`tests/spot_screen_model.rs`).
 
 mod background;
 mod centroid;
