@@ -4,52 +4,25 @@
 //!
 //! Run with `cargo test --test spot_screen_model -- --nocapture` to see the measured figures.
 
+mod spot_support;
+
 use spotlever::spot::{SpotConfig, SpotStatus, Tracker};
-use spotlever::synth::{
-    render_scene, CameraView, Illumination, LaserSpot, RuledScreen, Scene, Sensor,
-};
+use spotlever::synth::render_scene;
 use spotlever::units::ScreenPoint;
 
 /// RMS radial error of the tracker over frames `from..n` of a spot swinging sideways over the
-/// screen, and the approximate bound; `ink` is the ruling's reflectance.
+/// screen of `spot_support::tilted_scene`, and the approximate bound; `ink` is the ruling's
+/// reflectance.
 fn swing_run(ink: f64, n: usize, from: usize) -> (f64, f64) {
-    let (w, h) = (320, 240);
-    let mut view = CameraView::square_on(ScreenPoint::default(), 4.0, w, h);
-    view.tilt_y_deg = 25.0;
-    view.tilt_x_deg = 8.0;
-    let (sigma, peak, noise, blur) = (3.0, 160.0, 2.0, 0.7);
     let mut tracker = Tracker::new(SpotConfig::default());
     let (mut se, mut count) = (0.0, 0usize);
     for i in 0..n {
         let t = i as f64;
-        let scene = Scene {
-            width: w,
-            height: h,
-            screen_to_image: view.homography().unwrap(),
-            screen: RuledScreen {
-                ink_reflectance: ink,
-                ..RuledScreen::default()
-            },
-            illumination: Illumination {
-                gradient_x: 0.3,
-                vignetting: 0.3,
-                ..Illumination::default()
-            },
-            spot: Some(LaserSpot {
-                centre: ScreenPoint {
-                    x_mm: 12.0 * (2.0 * std::f64::consts::PI * t / 40.0).sin(),
-                    y_mm: 1.0 - 0.01 * t,
-                },
-                peak_dn: peak,
-                sigma_px: sigma,
-                speckle: None,
-            }),
-            sensor: Sensor {
-                noise_dn: noise,
-                blur_sigma_px: blur,
-                white: 255,
-            },
+        let centre = ScreenPoint {
+            x_mm: 12.0 * (2.0 * std::f64::consts::PI * t / 40.0).sin(),
+            y_mm: 1.0 - 0.01 * t,
         };
+        let scene = spot_support::tilted_scene(ink, centre);
         let (plane, truth) = render_scene(&scene, 700 + i as u64).unwrap();
         let fix = tracker.process(&plane);
         assert_eq!(fix.status, SpotStatus::Ok, "frame {i}: {fix:?}");
@@ -59,13 +32,10 @@ fn swing_run(ink: f64, n: usize, from: usize) -> (f64, f64) {
             count += 1;
         }
     }
-    // Bound as in tests/spot_accuracy.rs: blur widens the spot to sigma_e = sqrt(sigma^2 + blur^2)
-    // and lowers its peak by sigma^2 / sigma_e^2 (convolution of Gaussians); per axis s sqrt(2 / pi) / A
-    // for a well-sampled Gaussian (Kay, Fundamentals of Statistical Signal Processing vol. 1, ch. 3).
-    let amp = peak * sigma * sigma / (sigma * sigma + blur * blur);
-    let var = noise * noise + 1.0 / 12.0;
-    let bound_radial = (2.0 * var * 2.0 / (std::f64::consts::PI * amp * amp)).sqrt();
-    ((se / count as f64).sqrt(), bound_radial)
+    (
+        (se / count as f64).sqrt(),
+        spot_support::tilted_scene_bound(),
+    )
 }
 
 #[test]
@@ -76,7 +46,8 @@ fn ruling_under_a_swinging_spot_is_learned_and_removed() {
          {bound:.4} px, ratio {:.3}",
         rms / bound
     );
-    // The same 1.3 allowance as the unruled screen in tests/spot_accuracy.rs, widened by the noise of
+    // The same 1.3 allowance as the unruled screen in tests/spot_accuracy.rs (bound in
+    // tests/spot_support/mod.rs), widened by the noise of
     // the learned screen: a mean of at least 8 frames adds 1/8 of the pixel noise variance under the
     // spot, a factor sqrt(1 + 1/8) on the error (variance of a sample mean).
     assert!(
