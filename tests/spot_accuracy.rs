@@ -11,6 +11,8 @@
 //! covariance). Rounding to whole DN is treated as extra uniform noise of variance 1/12 DN^2 (a common
 //! approximation when the noise spans several DN; no source).
 
+mod spot_support;
+
 use nalgebra::{SMatrix, SVector};
 use rand::rngs::StdRng;
 use rand::{Rng, SeedableRng};
@@ -147,57 +149,22 @@ fn clipped_spot_is_located_from_its_wings() {
 /// A spot on a tilted, unevenly lit screen (sensor blur 0.7 px, 2 DN noise) at `ink` reflectance of
 /// the ruling; returns the RMS radial error over `n` frames and the approximate bound.
 fn screen_run(ink: f64, n: usize) -> (f64, f64) {
-    use spotlever::synth::{render_scene, CameraView, Illumination, LaserSpot, RuledScreen, Scene};
+    use spotlever::synth::render_scene;
     use spotlever::units::ScreenPoint;
-    let (w, h) = (320, 240);
-    let mut view = CameraView::square_on(ScreenPoint::default(), 4.0, w, h);
-    view.tilt_y_deg = 25.0;
-    view.tilt_x_deg = 8.0;
-    let (sigma, peak, noise, blur) = (3.0, 160.0, 2.0, 0.7);
     let mut se = 0.0;
     for i in 0..n {
-        let scene = Scene {
-            width: w,
-            height: h,
-            screen_to_image: view.homography().unwrap(),
-            screen: RuledScreen {
-                ink_reflectance: ink,
-                ..RuledScreen::default()
-            },
-            illumination: Illumination {
-                gradient_x: 0.3,
-                vignetting: 0.3,
-                ..Illumination::default()
-            },
-            spot: Some(LaserSpot {
-                centre: ScreenPoint {
-                    x_mm: -3.0 + 0.317 * i as f64,
-                    y_mm: 2.0 - 0.113 * i as f64,
-                },
-                peak_dn: peak,
-                sigma_px: sigma,
-                speckle: None,
-            }),
-            sensor: Sensor {
-                noise_dn: noise,
-                blur_sigma_px: blur,
-                white: 255,
-            },
+        let centre = ScreenPoint {
+            x_mm: -3.0 + 0.317 * i as f64,
+            y_mm: 2.0 - 0.113 * i as f64,
         };
+        let scene = spot_support::tilted_scene(ink, centre);
         let (plane, truth) = render_scene(&scene, 40 + i as u64).unwrap();
         let fix = locate(&plane, &SpotConfig::default());
         assert_eq!(fix.status, SpotStatus::Ok, "frame {i}: {fix:?}");
         let (p, t) = (fix.position.unwrap(), truth.spot_px.unwrap());
         se += (p.x - t.x).powi(2) + (p.y - t.y).powi(2);
     }
-    // Blur widens the spot to sigma_e = sqrt(sigma^2 + blur^2) and lowers its peak by
-    // sigma^2 / sigma_e^2 (convolution of Gaussians). For a well-sampled Gaussian the per-axis bound
-    // is s sqrt(2 / pi) / A, independent of the width (continuous approximation of the Fisher sum
-    // above, Kay vol. 1, ch. 3); it ignores the small coupling to the other parameters.
-    let amp = peak * sigma * sigma / (sigma * sigma + blur * blur);
-    let var = noise * noise + 1.0 / 12.0;
-    let bound_radial = (2.0 * var * 2.0 / (std::f64::consts::PI * amp * amp)).sqrt();
-    ((se / n as f64).sqrt(), bound_radial)
+    ((se / n as f64).sqrt(), spot_support::tilted_scene_bound())
 }
 
 #[test]

@@ -309,3 +309,28 @@ fn periodic_full_search_notices_a_second_spot() {
         assert!(dist(fix.position.unwrap(), a) < 0.1);
     }
 }
+
+#[test]
+fn a_followed_spot_dimming_below_the_search_threshold_is_kept() {
+    let config = SpotConfig::default();
+    let mut tracker = Tracker::new(config.clone());
+    let c = pt(48.3, 47.6);
+    for f in 0..5 {
+        let p = plane_with(96, 96, &[(c, 160.0)], 2.5, |_, _| 40.0, 300 + f);
+        assert_eq!(tracker.process(&p).status, SpotStatus::Ok, "frame {f}");
+    }
+    // Peak 4.5 noise figures: below min_snr (6) for a fresh search, above half of it, and the whole
+    // spot is 4.5 sqrt(pi) 2.5 = 20 standard errors strong.
+    let dim = plane_with(96, 96, &[(c, 13.5)], 2.5, |_, _| 40.0, 400);
+    assert_eq!(locate(&dim, &config).status, SpotStatus::Lost);
+    let fix = tracker.process(&dim);
+    assert_eq!(fix.status, SpotStatus::Ok, "{fix:?}");
+    // Per-axis bound s sqrt(2 / pi) / A = 0.18 px (Kay vol. 1, ch. 3, continuous approximation);
+    // four times the radial figure sqrt(2) x 0.18 px (common practice, no source).
+    let bound_radial = std::f64::consts::SQRT_2 * 3.0 * (2.0 / std::f64::consts::PI).sqrt() / 13.5;
+    let d = dist(fix.position.unwrap(), c);
+    assert!(d < 4.0 * bound_radial, "{d:.3} px off");
+    // Nothing there at all: lost even while following.
+    let blank = plane_with(96, 96, &[], 2.5, |_, _| 40.0, 401);
+    assert_eq!(tracker.process(&blank).status, SpotStatus::Lost);
+}

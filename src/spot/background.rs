@@ -2,6 +2,7 @@
 //! pixels just outside the spot's reach, and its slow smoothing from frame to frame.
 
 use super::image::{median_and_sigma, Img, Rect};
+use super::learned::ScreenModel;
 use crate::units::PixelPoint;
 use nalgebra::{Matrix3, Vector3};
 
@@ -31,19 +32,37 @@ impl LocalBackground {
     }
 }
 
+/// The full background under a pixel: the fitted plane, on top of the learned screen when there is one.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Under<'a> {
+    pub plane: LocalBackground,
+    pub screen: Option<&'a ScreenModel>,
+}
+
+impl Under<'_> {
+    #[inline]
+    pub fn at(&self, x: usize, y: usize) -> f64 {
+        let p = self.plane.at(x as f64, y as f64);
+        match self.screen {
+            Some(s) => p + s.at(x, y),
+            None => p,
+        }
+    }
+}
+
 /// Fit the background to the ring of pixels whose Chebyshev distance from (cx, cy) lies in
 /// `radius - thickness + 1 ..= radius`, inside `rect`.
 ///
 /// Clipped pixels are left out; pixels further than three robust standard deviations from the median
 /// (ruling lines, other light) are trimmed before a least-squares plane fit. `None` when fewer than
-/// twelve pixels remain.
+/// twelve pixels remain. With a learned `screen`, the plane is fitted to what differs from it.
 pub(crate) fn ring_background(
     img: &Img,
     rect: &Rect,
-    cx: usize,
-    cy: usize,
+    (cx, cy): (usize, usize),
     radius: usize,
     thickness: usize,
+    screen: Option<&ScreenModel>,
 ) -> Option<LocalBackground> {
     let inner = radius.saturating_sub(thickness.max(1) - 1);
     let win = rect.around(cx as f64, cy as f64, radius)?;
@@ -55,7 +74,8 @@ pub(crate) fn ring_background(
             let x = win.x0 + i;
             let d = dy.max(x.abs_diff(cx));
             if d >= inner && d <= radius && !img.clipped(v) {
-                pts.push((x as f64 - cx as f64, y as f64 - cy as f64, v as f64));
+                let under = screen.map_or(0.0, |s| s.at(x, y));
+                pts.push((x as f64 - cx as f64, y as f64 - cy as f64, v as f64 - under));
             }
         }
     }

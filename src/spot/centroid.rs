@@ -1,7 +1,7 @@
 //! Background-subtracted, thresholded centre of light: the starting point of the fit and the fallback
 //! when a fit is not possible.
 
-use super::background::LocalBackground;
+use super::background::Under;
 use super::image::{Img, Rect};
 
 /// A centroid and how many pixels lay above half the peak.
@@ -19,7 +19,7 @@ pub(crate) fn weighted_centroid(
     rect: &Rect,
     centre: crate::units::PixelPoint,
     half: usize,
-    bg: &LocalBackground,
+    bg: &Under,
     threshold: f64,
     half_peak: f64,
 ) -> Option<Centroid> {
@@ -30,7 +30,7 @@ pub(crate) fn weighted_centroid(
         let yf = y as f64;
         for (i, &v) in img.row(y, win.x0, win.x1).iter().enumerate() {
             let x = (win.x0 + i) as f64;
-            let a = v as f64 - bg.at(x, yf);
+            let a = v as f64 - bg.at(win.x0 + i, y);
             if a > half_peak {
                 above_half += 1;
             }

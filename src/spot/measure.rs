@@ -1,10 +1,11 @@
 //! From a rough seed to a subpixel position and quality figures: local background, thresholded
 //! background-subtracted centroid, then a Gaussian fit over the unclipped pixels.
 
-use super::background::{ring_background, LocalBackground};
+use super::background::{ring_background, LocalBackground, Under};
 use super::centroid::weighted_centroid;
 use super::fit::{fit_gaussian, Gaussian, Sample};
 use super::image::{Img, Rect};
+use super::learned::ScreenModel;
 use super::{SpotConfig, SpotFix, SpotStatus};
 use crate::units::PixelPoint;
 
@@ -46,17 +47,26 @@ pub(crate) fn brightest_patch(
 }
 
 /// Measure the spot seeded at pixel (sx, sy). `prior` replaces the freshly measured background when
-/// the caller has a better (smoothed) one; `filter` turns the fresh one into that better one.
+/// the caller has a better (smoothed) one; `filter` turns the fresh one into that better one. When
+/// `screen` has learned every pixel within reach of the seed, the screen's pattern is taken away first
+/// and the ring plane only models what changed since (the filter is then not used).
 pub(crate) fn measure(
     img: &Img,
     rect: &Rect,
     (sx, sy): (usize, usize),
     config: &SpotConfig,
+    screen: Option<&ScreenModel>,
     filter: &mut dyn FnMut(LocalBackground) -> LocalBackground,
 ) -> Option<Measurement> {
     let reach = config.reach_px();
-    let fresh = ring_background(img, rect, sx, sy, reach, 3)?;
-    let bg = filter(fresh);
+    let screen = screen.filter(|s| s.covers(rect, sx, sy, reach));
+    let fresh = ring_background(img, rect, (sx, sy), reach, 3, screen)?;
+    let bg = if screen.is_some() {
+        fresh
+    } else {
+        filter(fresh)
+    };
+    let under = Under { plane: bg, screen };
     let noise = bg.noise;
 
     // Observed peak above background around the seed.
@@ -65,7 +75,7 @@ pub(crate) fn measure(
         for y in core.y0..core.y1 {
             for x in core.x0..core.x1 {
                 let v = img.get(x, y);
-                peak_obs = peak_obs.max(v as f64 - bg.at(x as f64, y as f64));
+                peak_obs = peak_obs.max(v as f64 - under.at(x, y));
             }
         }
     }
@@ -80,7 +90,15 @@ pub(crate) fn measure(
     };
     let mut half_max_px = 0usize;
     for _ in 0..4 {
-        let c = weighted_centroid(img, rect, centre, reach - 3, &bg, threshold, 0.5 * peak_obs)?;
+        let c = weighted_centroid(
+            img,
+            rect,
+            centre,
+            reach - 3,
+            &under,
+            threshold,
+            0.5 * peak_obs,
+        )?;
         let moved = (c.x - centre.x).abs().max((c.y - centre.y).abs());
         centre = PixelPoint { x: c.x, y: c.y };
         half_max_px = c.above_half;
@@ -105,7 +123,7 @@ pub(crate) fn measure(
         for (i, &v) in img.row(y, win.x0, win.x1).iter().enumerate() {
             let x = (win.x0 + i) as f64;
             let yf = y as f64;
-            let b = bg.at(x, yf);
+            let b = under.at(win.x0 + i, y);
             sum_above += v as f64 - b;
             if v >= img.white {
                 saturated_px += 1;

@@ -11,20 +11,25 @@
 //!    [`SpotStatus::Ambiguous`];
 //! 2. local background (`background.rs`, see [`LocalBackground`]): a plane fitted robustly to a ring
 //!    of pixels just outside the spot's reach (ruling lines and clipped pixels trimmed), smoothed over
-//!    frames by the [`Tracker`];
+//!    frames by the [`Tracker`]. The [`Tracker`] also learns the still screen pixel by pixel where the
+//!    spot has moved away (`learned.rs`); where the spot's whole reach has been learned, that pattern is
+//!    subtracted first and the ring plane only follows changes of room light;
 //! 3. a thresholded, background-subtracted weighted centroid (`centroid.rs`);
 //! 4. a least-squares 2-D Gaussian fit (`fit.rs`, on the `levenberg-marquardt` crate) over the
 //!    unclipped pixels only, so a clipped core is located from its wings. The centroid is kept when
 //!    the fit fails or wanders off.
 //!
-//! Known limit: the fit assumes a smooth background under the spot. Ruling lines crossing a small spot
-//! distort it; on a 1 mm ruling seen at 4 px/mm with a sigma 3 px spot this costs about 0.07 to 0.17 px
-//! RMS (see `tests/spot_accuracy.rs`), far more than the noise-limited figure on plain paper.
+//! Known limit: without a learned screen (the one-shot [`locate`], a spot that has not moved, the first
+//! frames of a run) the fit assumes a smooth background under the spot. Ruling lines crossing a small
+//! spot distort it; on a 1 mm ruling seen at 4 px/mm with a sigma 3 px spot this costs about 0.07 to
+//! 0.17 px RMS (see `tests/spot_accuracy.rs`), far more than the noise-limited figure on plain paper,
+//! which a tracked, moving spot regains (`tests/spot_screen_model.rs`).
 
 mod background;
 mod centroid;
 mod fit;
 mod image;
+mod learned;
 mod measure;
 mod search;
 mod tracker;
@@ -207,7 +212,7 @@ pub fn locate(plane: &Plane, config: &SpotConfig) -> SpotFix {
     with_image(plane, |img| {
         let config = config.sanitised();
         match Rect::for_image(img.w, img.h, config.roi) {
-            Some(rect) => full_search(img, &rect, &config, &mut |b| b).0,
+            Some(rect) => full_search(img, &rect, &config, None, &mut |b| b).0,
             None => SpotFix::without_position(SpotStatus::Lost),
         }
     })
@@ -233,11 +238,13 @@ pub(crate) fn with_image<T>(plane: &Plane, f: impl FnOnce(&Img) -> T) -> T {
 }
 
 /// Coarse search of `rect` and measurement of the best candidate, with the background passed through
-/// `filter`. Returns the answer and the background used (when a spot was measured).
+/// `filter` (on top of the learned `screen`, where it covers the spot). Returns the answer and the
+/// background used (when a spot was measured).
 pub(crate) fn full_search(
     img: &Img,
     rect: &Rect,
     config: &SpotConfig,
+    screen: Option<&learned::ScreenModel>,
     filter: &mut dyn FnMut(LocalBackground) -> LocalBackground,
 ) -> (SpotFix, Option<LocalBackground>) {
     let found = search::coarse_search(img, rect, config.max_sigma_px);
@@ -250,7 +257,7 @@ pub(crate) fn full_search(
         return (SpotFix::without_position(SpotStatus::Lost), None);
     };
     let seed = measure::brightest_patch(img, rect, best.x, best.y, search::BLOCK);
-    let Some(m) = measure::measure(img, rect, seed, config, filter) else {
+    let Some(m) = measure::measure(img, rect, seed, config, screen, filter) else {
         return (SpotFix::without_position(SpotStatus::Lost), None);
     };
     let mut fix = judge(m.fix, config);
@@ -266,7 +273,26 @@ pub(crate) fn full_search(
 
 /// Turn a measurement into `Lost` when it does not stand out enough.
 pub(crate) fn judge(fix: SpotFix, config: &SpotConfig) -> SpotFix {
-    if fix.snr >= config.min_snr && fix.position.is_some() {
+    judge_with(fix, fix.snr >= config.min_snr)
+}
+
+/// The same for a spot already being followed, found again where it was predicted (hysteresis, common
+/// practice in tracking, no source): its peak may dip to half of `min_snr` while the whole spot stays
+/// clearly significant. The whole-spot figure is the amplitude over its standard error in white noise,
+/// peak sqrt(pi) sigma / noise (from sum g^2 = pi sigma^2 for a unit Gaussian sampled on the pixel
+/// grid), and must reach twice `min_snr`; a noise-only window stays far below that, because a narrow
+/// noise bump has a small sigma and a wide one a small peak.
+pub(crate) fn judge_tracked(fix: SpotFix, config: &SpotConfig) -> SpotFix {
+    let sigma = fix.width_px / std::f64::consts::SQRT_2;
+    let whole = fix.snr * std::f64::consts::PI.sqrt() * sigma;
+    judge_with(
+        fix,
+        fix.snr >= 0.5 * config.min_snr && whole >= 2.0 * config.min_snr,
+    )
+}
+
+fn judge_with(fix: SpotFix, stands_out: bool) -> SpotFix {
+    if stands_out && fix.position.is_some() {
         fix
     } else {
         SpotFix {

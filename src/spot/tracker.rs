@@ -3,7 +3,8 @@
 
 use super::background::{BackgroundFollower, LocalBackground};
 use super::image::{Img, Rect};
-use super::{full_search, judge, measure, with_image, SpotConfig, SpotFix, SpotStatus};
+use super::learned::ScreenModel;
+use super::{full_search, judge_tracked, measure, with_image, SpotConfig, SpotFix, SpotStatus};
 use crate::frame::Plane;
 use crate::units::PixelPoint;
 
@@ -19,6 +20,7 @@ pub struct Tracker {
     last: Option<PixelPoint>,
     previous: Option<PixelPoint>,
     background: BackgroundFollower,
+    screen: ScreenModel,
     since_search: u32,
     size: (usize, usize),
 }
@@ -30,6 +32,7 @@ impl Tracker {
             last: None,
             previous: None,
             background: BackgroundFollower::default(),
+            screen: ScreenModel::default(),
             since_search: 0,
             size: (0, 0),
         }
@@ -82,9 +85,10 @@ impl Tracker {
                 self.since_search = 0;
                 let (weight, reset) = self.weights();
                 let follower = &mut self.background;
-                let (fix, _) = full_search(img, &rect, &self.config, &mut |b| {
-                    follower.update(b, weight, reset)
-                });
+                let (fix, _) =
+                    full_search(img, &rect, &self.config, Some(&self.screen), &mut |b| {
+                        follower.update(b, weight, reset)
+                    });
                 fix
             }
         };
@@ -92,6 +96,13 @@ impl Tracker {
             Some(p) if fix.status.has_position() || fix.status == SpotStatus::Ambiguous => {
                 self.previous = self.last;
                 self.last = Some(p);
+                if fix.status.has_position() {
+                    // The screen seen around the spot, as far as the spot could travel in a few
+                    // frames, so the places it will cover next are known.
+                    let reach = self.config.reach_px();
+                    let half = 3 * reach + self.config.track_radius_px;
+                    self.screen.learn(img, &rect, p, reach, half);
+                }
             }
             _ => {
                 self.last = None;
@@ -143,10 +154,15 @@ impl Tracker {
         }
         let (weight, reset) = self.weights();
         let follower = &mut self.background;
-        let m = measure::measure(img, rect, seed, &self.config, &mut |b| {
-            follower.update(b, weight, reset)
-        })?;
-        let fix = judge(m.fix, &self.config);
+        let m = measure::measure(
+            img,
+            rect,
+            seed,
+            &self.config,
+            Some(&self.screen),
+            &mut |b| follower.update(b, weight, reset),
+        )?;
+        let fix = judge_tracked(m.fix, &self.config);
         fix.position.is_some().then_some(fix)
     }
 }

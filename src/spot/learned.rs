@@ -1,0 +1,88 @@
+//! A per-pixel picture of the still screen, learned while the spot moves over it.
+//!
+//! The screen (ruling, print, uneven paper) does not move; the spot does. Every tracked frame, the
+//! pixels near the spot but outside its reach are folded into a running mean, so that once the spot
+//! has uncovered a place, the screen's own pattern there is known and can be taken away before the
+//! spot is measured on top of it. A plane fitted to the ring around the spot still absorbs changes of
+//! room light. Memory is one value and one count per pixel, independent of the run's length.
+
+use super::image::{Img, Rect};
+use crate::units::PixelPoint;
+
+/// Frames a pixel must have been seen without the spot before its learned value is used.
+pub(crate) const MIN_SEEN: u16 = 8;
+/// Longest averaging memory, frames: after this the mean follows slow light changes as an
+/// exponentially weighted average of weight 1 / MAX_SEEN.
+const MAX_SEEN: u16 = 32;
+
+/// Learned screen values, full-frame, row-major.
+#[derive(Debug, Clone, Default)]
+pub(crate) struct ScreenModel {
+    w: usize,
+    h: usize,
+    mean: Vec<f32>,
+    seen: Vec<u16>,
+}
+
+impl ScreenModel {
+    /// Forget everything (and size the model for a `w` x `h` image).
+    pub fn reset(&mut self, w: usize, h: usize) {
+        self.w = w;
+        self.h = h;
+        self.mean.clear();
+        self.seen.clear();
+    }
+
+    /// The learned value at pixel (x, y).
+    #[inline]
+    pub fn at(&self, x: usize, y: usize) -> f64 {
+        self.mean[y * self.w + x] as f64
+    }
+
+    /// Whether every pixel of the square of half-size `half` around (cx, cy) inside `rect` has been
+    /// seen often enough.
+    pub fn covers(&self, rect: &Rect, cx: usize, cy: usize, half: usize) -> bool {
+        if self.seen.is_empty() {
+            return false;
+        }
+        let Some(win) = rect.around(cx as f64, cy as f64, half) else {
+            return false;
+        };
+        (win.y0..win.y1).all(|y| {
+            self.seen[y * self.w + win.x0..y * self.w + win.x1]
+                .iter()
+                .all(|&n| n >= MIN_SEEN)
+        })
+    }
+
+    /// Fold in the pixels of `img` within Chebyshev distance `half` of `spot` but further than
+    /// `reach` from it (clipped pixels left out).
+    pub fn learn(&mut self, img: &Img, rect: &Rect, spot: PixelPoint, reach: usize, half: usize) {
+        if img.w != self.w || img.h != self.h {
+            self.reset(img.w, img.h);
+        }
+        if self.seen.is_empty() {
+            self.mean = vec![0.0; self.w * self.h];
+            self.seen = vec![0; self.w * self.h];
+        }
+        let Some(win) = rect.around(spot.x, spot.y, half) else {
+            return;
+        };
+        let (cx, cy) = (spot.x.round(), spot.y.round());
+        let r = reach as f64;
+        for y in win.y0..win.y1 {
+            let near_row = (y as f64 - cy).abs() <= r;
+            let row = img.row(y, win.x0, win.x1);
+            for (i, &v) in row.iter().enumerate() {
+                let x = win.x0 + i;
+                if (near_row && (x as f64 - cx).abs() <= r) || img.clipped(v) {
+                    continue;
+                }
+                let k = y * self.w + x;
+                let n = (self.seen[k] + 1).min(MAX_SEEN);
+                self.mean[k] += (v as f32 - self.mean[k]) / n as f32;
+                self.seen[k] = n;
+            }
+        }
+    }
+}
