@@ -181,7 +181,7 @@ pub fn report(setup: &Setup, f: &Fibre, p: &Prediction) -> String {
     let _ = writeln!(s);
     let _ = writeln!(
         s,
-        "Sensitivity of theta_G (d ln theta / d ln x; share of its uncertainty):"
+        "Sensitivity of theta_G (d ln theta / d ln x; its relative uncertainty contribution):"
     );
     for c in &p.theta_sensitivity {
         let _ = writeln!(

@@ -252,6 +252,8 @@ def run(bin_path, py, work, table):
         )
 
     # ---- speed ----
+    # Speed targets are measured figures, reported as MET or MISSED; only accuracy and agreement rows
+    # decide the harness's exit status (wall times depend on the machine and its load).
     r1 = t_track / t_decode - 1.0 if ok_tr else math.nan
     r2 = (t_track + t_analyze) / t_base if ok_tr and ok_an and base else math.nan
     r3 = t_base / t_every if ok_e1 and base else math.nan
@@ -260,7 +262,7 @@ def run(bin_path, py, work, table):
         f"{t_track:.1f} s track" if ok_tr else "n/a",
         f"{t_decode:.1f} s ffmpeg decode, same options",
         "-",
-        "PASS" if r1 <= 0.10 else "FAIL",
+        "MET" if r1 <= 0.10 else "MISSED",
         f"overhead {r1:+.3f} (target <= +0.10); decoder alone before/after tracking {t_decode_first:.1f}/{t_decode_again:.1f} s (smaller used); "
         f"plain decode without the timing filter {t_decode_plain:.1f} s",
     )
@@ -269,7 +271,7 @@ def run(bin_path, py, work, table):
         f"{t_track + t_analyze:.1f} s" if ok_tr else "n/a",
         f"{t_base:.1f} s (OpenCV baseline)",
         "-",
-        "PASS" if r2 <= 1.0 else "FAIL",
+        "MET" if r2 <= 1.0 else "MISSED",
         f"ratio {r2:.3f} (target <= 1); track {t_track:.1f} s + analyze {t_analyze:.2f} s"
         + ("" if ok_an else f"; {msg_an}"),
     )
@@ -278,7 +280,7 @@ def run(bin_path, py, work, table):
         f"{t_every:.1f} s" if ok_e1 else "n/a",
         f"{t_base:.1f} s (OpenCV baseline, every frame)",
         "-",
-        "PASS" if r3 >= 4.0 else "FAIL",
+        "MET" if r3 >= 4.0 else "MISSED",
         f"speed-up {r3:.2f}x (target >= 4x); key-frame-only decode alone {t_decode_key:.1f} s"
         + ("" if ok_e1 else f"; spotlever: {msg_e1}"),
     )

@@ -65,7 +65,11 @@ def main():
         )
     bad = table.failed()
     print(f"\nreference harness took {time.perf_counter() - t0:.0f} s")
-    print(f"{len(table.rows) - len(bad)} passed, {len(bad)} failed")
+    targets = [r for r in table.rows if r[4] in ("MET", "MISSED")]
+    if targets:
+        print(f"speed targets: {len(targets) - len(table.missed())} met, {len(table.missed())} missed (reported, not failing)")
+    checks = [r for r in table.rows if r[4] not in ("MET", "MISSED")]
+    print(f"{len(checks) - len(bad)} passed, {len(bad)} failed")
     return 1 if bad else 0
 
 

@@ -87,7 +87,10 @@ class Table:
         print(f"  [{verdict}] {quantity}: spotlever {ours} | reference {ref} | truth {truth}  {note}", flush=True)
 
     def failed(self):
-        return [r for r in self.rows if r[4] not in ("PASS", "INFO")]
+        return [r for r in self.rows if r[4] not in ("PASS", "INFO", "MET", "MISSED")]
+
+    def missed(self):
+        return [r for r in self.rows if r[4] == "MISSED"]
 
     def render(self):
         head = ("quantity", "spotlever", "reference", "truth", "verdict")
