@@ -119,11 +119,7 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
     let events = read_events(&data.join("events.csv"))?;
     let track = read_track(&track_path)?;
     let (samples, missing) = analysis::samples_from_track(&track, &analysis::lever_of(&setup))?;
-    let opts = AnalysisOptions {
-        mc_draws: 20_000,
-        ..AnalysisOptions::default()
-    };
-    let a = analysis::analyze(&samples, &setup, Some(&events), &opts)?;
+    let a = analysis::analyze(&samples, &setup, Some(&events), &AnalysisOptions::default())?;
     let results = args.out.join("analysis");
     super::analyze::write_outputs(&results, &samples, &a)?;
     print!(
