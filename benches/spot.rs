@@ -1,5 +1,7 @@
 //! Speed of the spot finder on 1920 x 1080 8-bit frames rendered by the scene synthesizer: a full-frame
-//! search (`locate`), one tracking step of `Tracker::process`, and the rendering itself.
+//! search (`locate`), one tracking step of `Tracker::process` (each also on the same frames stored as
+//! 16-bit values, `.../u16`), and the rendering itself; and the pixel conversion a decoded frame goes
+//! through on its way to a plane (`plane_conversion`).
 //!
 //! Run with `cargo bench --bench spot`.
 //!
@@ -7,8 +9,9 @@
 //! CPU time of the benchmarking thread (`cpu/...`), which is what one core spends on the work even
 //! when other processes share the machine.
 
-use criterion::{criterion_group, criterion_main, Criterion};
+use criterion::{criterion_group, criterion_main, BatchSize, Criterion};
 use spotlever::frame::Plane;
+use spotlever::source::expand_limited_luma_in_place;
 use spotlever::spot::{locate, SpotConfig, SpotStatus, Tracker};
 use spotlever::synth::{
     render_scene, CameraView, Illumination, LaserSpot, RuledScreen, Scene, Sensor, Speckle,
@@ -56,29 +59,60 @@ fn frames() -> (Plane, Plane) {
     (a, b)
 }
 
-/// The two spot benchmarks, under any criterion measurement.
+/// The same values stored as 16-bit.
+fn widened(p: &Plane) -> Plane {
+    Plane::new(p.to_u16().into_owned(), p.white)
+}
+
+/// The two spot benchmarks on 8-bit frames and on the same frames stored as 16-bit, under any
+/// criterion measurement.
 fn spot_steps<M: criterion::measurement::Measurement + 'static>(
     c: &mut Criterion<M>,
     prefix: &str,
 ) {
-    let (a, b) = frames();
+    let (a8, b8) = frames();
+    let (a16, b16) = (widened(&a8), widened(&b8));
     let config = SpotConfig::default();
-    assert_eq!(locate(&a, &config).status, SpotStatus::Ok);
+    for (suffix, a, b) in [("", &a8, &b8), ("/u16", &a16, &b16)] {
+        assert_eq!(locate(a, &config).status, SpotStatus::Ok);
 
-    c.bench_function(
-        &format!("{prefix}spot/full_frame_search_1920x1080"),
-        |bench| bench.iter(|| black_box(locate(black_box(&a), &config))),
-    );
+        c.bench_function(
+            &format!("{prefix}spot/full_frame_search_1920x1080{suffix}"),
+            |bench| bench.iter(|| black_box(locate(black_box(a), &config))),
+        );
 
-    let mut tracker = Tracker::new(config.clone());
-    tracker.process(&a);
-    let mut flip = false;
-    c.bench_function(&format!("{prefix}spot/tracking_step_1920x1080"), |bench| {
-        bench.iter(|| {
-            flip = !flip;
-            black_box(tracker.process(black_box(if flip { &b } else { &a })))
-        })
+        let mut tracker = Tracker::new(config.clone());
+        tracker.process(a);
+        let mut flip = false;
+        c.bench_function(
+            &format!("{prefix}spot/tracking_step_1920x1080{suffix}"),
+            |bench| {
+                bench.iter(|| {
+                    flip = !flip;
+                    black_box(tracker.process(black_box(if flip { b } else { a })))
+                })
+            },
+        );
+    }
+}
+
+/// Studio-to-full range expansion of one 1920 x 1080 luma frame in place, under any criterion
+/// measurement.
+fn conversion_steps<M: criterion::measurement::Measurement + 'static>(
+    c: &mut Criterion<M>,
+    prefix: &str,
+) {
+    // Every byte value, in a pattern that does not repeat with the vector width.
+    let frame: Vec<u8> = (0..W * H).map(|i| ((i * 7 + i / 13) % 256) as u8).collect();
+    let mut g = c.benchmark_group(format!("{prefix}plane_conversion"));
+    g.bench_function("expand_limited_luma_in_place_1920x1080", |bench| {
+        bench.iter_batched_ref(
+            || frame.clone(),
+            |bytes| expand_limited_luma_in_place(black_box(bytes)),
+            BatchSize::LargeInput,
+        )
     });
+    g.finish();
 }
 
 /// Rendering one full scene frame, under any criterion measurement.
@@ -97,6 +131,7 @@ fn render_step<M: criterion::measurement::Measurement + 'static>(
 
 fn bench_spot(c: &mut Criterion) {
     spot_steps(c, "");
+    conversion_steps(c, "");
     render_step(c, "");
 }
 
@@ -170,6 +205,7 @@ mod cpu {
 #[cfg(unix)]
 fn bench_spot_cpu(c: &mut Criterion<cpu::ThreadCpuTime>) {
     spot_steps(c, "cpu/");
+    conversion_steps(c, "cpu/");
     render_step(c, "cpu/");
 }
 

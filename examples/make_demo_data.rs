@@ -215,7 +215,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
 
 /// An 8-bit grayscale image of a rendered plane.
 fn to_gray(plane: &spotlever::frame::Plane) -> image::GrayImage {
-    image::GrayImage::from_fn(plane.width() as u32, plane.height() as u32, |x, y| {
-        image::Luma([plane.pixels[(y as usize, x as usize)].min(255) as u8])
-    })
+    let bytes = plane.values().map(|v| v.min(255) as u8).collect();
+    image::GrayImage::from_raw(plane.width() as u32, plane.height() as u32, bytes)
+        .expect("one byte per pixel")
 }

@@ -5,7 +5,7 @@ use ndarray::Array2;
 use rand::rngs::StdRng;
 use rand::SeedableRng;
 use rand_distr::{Distribution, Normal};
-use spotlever::frame::Plane;
+use spotlever::frame::{Pixels, Plane};
 use spotlever::spot::{locate, Roi, SpotConfig, SpotStatus, Tracker};
 use spotlever::synth::{render_flat_spot, FlatSpot, Sensor};
 use spotlever::units::PixelPoint;
@@ -108,7 +108,7 @@ fn two_equal_spots_are_ambiguous() {
 fn clipped_spot_is_saturated_and_its_peak_extrapolated() {
     let spot = flat(pt(47.3, 48.8), 600.0);
     let plane = render_flat_spot(&spot, 4).unwrap();
-    let clipped = plane.pixels.iter().filter(|&&v| v == 255).count() as u32;
+    let clipped = plane.values().filter(|&v| v == 255).count() as u32;
     let fix = locate(&plane, &SpotConfig::default());
     assert_eq!(fix.status, SpotStatus::Saturated);
     assert!(fix.status.has_position());
@@ -333,4 +333,45 @@ fn a_followed_spot_dimming_below_the_search_threshold_is_kept() {
     // Nothing there at all: lost even while following.
     let blank = plane_with(96, 96, &[], 2.5, |_, _| 40.0, 401);
     assert_eq!(tracker.process(&blank).status, SpotStatus::Lost);
+}
+
+#[test]
+fn the_answer_does_not_depend_on_how_the_pixels_are_stored() {
+    // The same values as 8-bit, as 16-bit, and as 8-bit in column-major order.
+    let storages = |p: &Plane| -> [Plane; 3] {
+        let Pixels::Eight(a) = p.pixels() else {
+            panic!("the synthesizer gives 8-bit planes for an 8-bit sensor")
+        };
+        let column_major = a.t().as_standard_layout().into_owned().reversed_axes();
+        assert!(!column_major.is_standard_layout());
+        [
+            p.clone(),
+            Plane::new(p.to_u16().into_owned(), p.white),
+            Plane::from_u8_array(column_major),
+        ]
+    };
+    let config = SpotConfig::default();
+    let mut trackers: Vec<Tracker> = (0..3).map(|_| Tracker::new(config.clone())).collect();
+    for f in 0..12u64 {
+        // A spot stepping sideways with a clipped core on some frames.
+        let peak = if f % 4 == 3 { 600.0 } else { 150.0 };
+        let spot = flat(pt(30.2 + 2.7 * f as f64, 47.6), peak);
+        let planes = storages(&render_flat_spot(&spot, 500 + f).unwrap());
+        let once: Vec<_> = planes.iter().map(|p| locate(p, &config)).collect();
+        let followed: Vec<_> = trackers
+            .iter_mut()
+            .zip(&planes)
+            .map(|(t, p)| t.process(p))
+            .collect();
+        assert!(once[0].status.has_position(), "frame {f}: {:?}", once[0]);
+        assert!(
+            followed[0].status.has_position(),
+            "frame {f}: {:?}",
+            followed[0]
+        );
+        for k in 1..3 {
+            assert_eq!(once[k], once[0], "frame {f}, storage {k}");
+            assert_eq!(followed[k], followed[0], "frame {f}, storage {k}");
+        }
+    }
 }

@@ -55,10 +55,9 @@ fn compare(dir: &Path, frames: &[Frame]) -> (f64, f64) {
         se += (pa.0 - pb.0).powi(2) + (pa.1 - pb.1).powi(2);
         // Codec pixel error variance over the whole frame.
         let d: f64 = png
-            .pixels
-            .iter()
-            .zip(f.plane.pixels.iter())
-            .map(|(&x, &y)| (x as f64 - y as f64).powi(2))
+            .values()
+            .zip(f.plane.values())
+            .map(|(x, y)| (x as f64 - y as f64).powi(2))
             .sum::<f64>()
             / (W * H) as f64;
         // Second moment and weight of a 3-sigma window of the background-subtracted spot.
@@ -70,7 +69,7 @@ fn compare(dir: &Path, frames: &[Frame]) -> (f64, f64) {
                 if x < 0 || y < 0 || x >= W as i64 || y >= H as i64 {
                     continue;
                 }
-                let v = (png.pixels[(y as usize, x as usize)] as f64 - 40.0).max(0.0);
+                let v = (png.get(x as usize, y as usize).unwrap() as f64 - 40.0).max(0.0);
                 wsum += v;
                 m2 += (x as f64 - ax).powi(2) + (y as f64 - ay).powi(2);
             }
@@ -176,10 +175,9 @@ fn builtin_and_ffmpeg_decode_the_baseline_clip_alike() {
         assert_eq!((fa.index, fa.t), (fb.index, fb.t));
         let worst = fa
             .plane
-            .pixels
-            .iter()
-            .zip(fb.plane.pixels.iter())
-            .map(|(&x, &y)| (x as i32 - y as i32).abs())
+            .values()
+            .zip(fb.plane.values())
+            .map(|(x, y)| (x as i32 - y as i32).abs())
             .max()
             .unwrap_or(0);
         assert!(
@@ -342,8 +340,8 @@ fn red_channel_from_video_differs_from_luma() {
     let (r, _) = frames_of(&clip, &red);
     let (l, _) = frames_of(&clip, &opts(VideoDecoder::Ffmpeg));
     let (rv, lv) = (
-        r[0].plane.pixels[(16, 16)] as f64,
-        l[0].plane.pixels[(16, 16)] as f64,
+        r[0].plane.get(16, 16).unwrap() as f64,
+        l[0].plane.get(16, 16).unwrap() as f64,
     );
     // Pure red 200: red channel 200, BT.601 luma 0.299 * 200 = 60 (ITU-R BT.601), within codec loss.
     assert!((rv - 200.0).abs() <= 4.0, "red {rv}");

@@ -89,7 +89,6 @@ mod backend {
     use crate::frame::{Frame, Plane};
     use crate::source::{Delivery, SourceInfo};
     use crate::units::Seconds;
-    use ndarray::Array2;
     use nokhwa::pixel_format::RgbFormat;
     use nokhwa::utils::{
         ApiBackend, CameraFormat, CameraIndex, FrameFormat, RequestedFormat, RequestedFormatType,
@@ -234,11 +233,11 @@ mod backend {
             };
             let (w, h) = (img.width() as usize, img.height() as usize);
             let ch = self.channel;
-            let v: Vec<u16> = img
+            let v: Vec<u8> = img
                 .pixels()
-                .map(|p| ch.from_rgb(p.0[0] as u16, p.0[1] as u16, p.0[2] as u16))
+                .map(|p| ch.from_rgb8(p.0[0], p.0[1], p.0[2]))
                 .collect();
-            let pixels = match Array2::from_shape_vec((h, w), v) {
+            let plane = match Plane::from_u8_vec(w, h, v) {
                 Ok(p) => p,
                 Err(e) => {
                     return Some(Ok(Delivery::Unreadable {
@@ -252,7 +251,7 @@ mod backend {
             Some(Ok(Delivery::Frame(Frame {
                 index,
                 t,
-                plane: Plane::new(pixels, 255),
+                plane,
                 origin,
             })))
         }

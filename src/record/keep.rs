@@ -6,7 +6,7 @@
 //! written after that, so a kill never leaves a listed but half-written image.
 
 use super::RecordError;
-use crate::frame::Plane;
+use crate::frame::{Pixels, Plane};
 use crate::units::Seconds;
 use image::codecs::jpeg::JpegEncoder;
 use image::ExtendedColorType;
@@ -109,15 +109,14 @@ fn to_u8(plane: &Plane, out: &mut Vec<u8>) {
     out.clear();
     out.reserve(plane.width() * plane.height());
     let white = plane.white.max(1) as u32;
-    if white == 255 {
-        out.extend(plane.pixels.iter().map(|&v| v.min(255) as u8));
-    } else {
-        out.extend(
+    match plane.pixels() {
+        Pixels::Eight(a) if white == 255 => out.extend(a.iter()),
+        _ if white == 255 => out.extend(plane.values().map(|v| v.min(255) as u8)),
+        _ => out.extend(
             plane
-                .pixels
-                .iter()
-                .map(|&v| ((v.min(white as u16) as u32 * 255 + white / 2) / white) as u8),
-        );
+                .values()
+                .map(|v| ((v.min(white as u16) as u32 * 255 + white / 2) / white) as u8),
+        ),
     }
 }
 
@@ -181,5 +180,12 @@ mod tests {
         );
         to_u8(&p, &mut out);
         assert_eq!(out, vec![0, 128, 255]);
+    }
+
+    #[test]
+    fn eight_bit_planes_are_copied_as_they_are() {
+        let mut out = vec![9; 10];
+        to_u8(&Plane::from_u8(3, 1, &[0, 77, 255]), &mut out);
+        assert_eq!(out, vec![0, 77, 255]);
     }
 }

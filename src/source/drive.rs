@@ -116,6 +116,9 @@ pub fn run_tracker<E: From<SourceError>>(
             }
         };
         sink(&row, frame)?;
+        if let Delivery::Frame(f) = d {
+            source.recycle(f);
+        }
         s.count(row.fix.status);
         s.elapsed = start.elapsed();
         progress(&s);

@@ -1,6 +1,12 @@
 //! Video files through the `ffmpeg` program: `ffprobe` for the stream's facts, then `ffmpeg` decoding
 //! to raw 8-bit planes on a pipe, one frame at a time, never the whole video in memory.
 //!
+//! For luma, the decoder's own Y plane is sent as it is (`extractplanes`, a plain copy) and kept as
+//! studio-range luma when the stream is limited-range (widened only where the finder reads it),
+//! instead of asking ffmpeg's scaler for a gray picture, which costs about half as much again as
+//! decoding. A reader thread drains the pipe
+//! into a few recycled buffers, so decoding and tracking overlap and memory stays flat.
+//!
 //! Presentation times are exact: the `showinfo` filter reports every frame's integer timestamp and
 //! time base on stderr, in the same order as the frames on the pipe, and frames pass through without
 //! being duplicated or dropped (`-vsync passthrough`). With `--every`, when the first frame of every
@@ -10,20 +16,35 @@
 
 use super::thin::Thinner;
 use super::{Delivery, FrameSource, OpenOptions, SourceError, SourceInfo};
-use crate::frame::{Channel, Frame, Plane};
+use crate::frame::{Channel, Frame, Plane, PlaneSizeError};
 use crate::units::Seconds;
 use std::cmp::Reverse;
 use std::collections::{BinaryHeap, VecDeque};
 use std::io::{BufRead, BufReader, Read};
 use std::path::{Path, PathBuf};
-use std::process::{Child, ChildStdout, Command, Stdio};
-use std::sync::mpsc::{channel, Receiver};
+use std::process::{Child, ChildStderr, ChildStdout, Command, Stdio};
+use std::sync::mpsc::{channel, sync_channel, Receiver, Sender, SyncSender};
 use std::sync::{Arc, Mutex};
 use std::thread::JoinHandle;
 
 /// Packets held back to put decode order into presentation order (H.264 and HEVC reorder by at
 /// most 16 frames; common practice, no source).
 const REORDER_WINDOW: usize = 64;
+
+/// Decoded pictures waiting in the pipe reader's queue: enough to ride over a slow frame on either
+/// side, few enough that memory does not grow with the run.
+const QUEUED_PICTURES: usize = 3;
+
+/// Pipe buffer asked for on Linux (the default 64 KiB makes a 1080p frame take 32 round trips).
+#[cfg(target_os = "linux")]
+const PIPE_BYTES: i32 = 1 << 20;
+
+/// Pixel formats whose first plane is 8-bit luma, so `extractplanes=y` gives it without scaling.
+/// The `j` formats are full range (JPEG); the others follow the stream's colour range.
+const LUMA_FIRST_FORMATS: [&str; 14] = [
+    "yuv420p", "yuvj420p", "yuv422p", "yuvj422p", "yuv444p", "yuvj444p", "yuv440p", "yuvj440p",
+    "yuv411p", "yuvj411p", "yuv410p", "yuva420p", "yuva422p", "yuva444p",
+];
 
 fn find_program(name: &str) -> Option<PathBuf> {
     let path = std::env::var_os("PATH")?;
@@ -53,6 +74,61 @@ struct Probe {
     nb_frames: Option<u64>,
     duration: Option<f64>,
     fps: Option<f64>,
+    pix_fmt: String,
+    color_range: String,
+}
+
+impl Probe {
+    /// Whether the decoder's first plane is 8-bit luma that can be sent without conversion.
+    fn luma_plane_direct(&self) -> bool {
+        LUMA_FIRST_FORMATS.contains(&self.pix_fmt.as_str())
+    }
+
+    /// Whether the luma samples are studio range (16–235) and need widening to 0–255. Unknown
+    /// range counts as studio range for YUV, as ffmpeg's own scaler assumes.
+    fn limited_range(&self) -> bool {
+        !(self.pix_fmt.starts_with("yuvj") || self.color_range == "pc")
+    }
+}
+
+/// How decoded pictures travel through the pipe and become a plane.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Transfer {
+    /// The Y plane as decoded; `widen` when it is studio range.
+    LumaPlane { widen: bool },
+    /// ffmpeg's scaler makes a gray picture (formats whose first plane is not 8-bit luma).
+    Gray,
+    /// Packed RGB, reduced to one channel here.
+    Rgb,
+}
+
+impl Transfer {
+    fn choose(p: &Probe, channel: Channel) -> Self {
+        match channel {
+            Channel::Luma if p.luma_plane_direct() => Transfer::LumaPlane {
+                widen: p.limited_range(),
+            },
+            Channel::Luma => Transfer::Gray,
+            _ => Transfer::Rgb,
+        }
+    }
+
+    /// The filter chain and output pixel format given to ffmpeg.
+    fn ffmpeg_output(self) -> (&'static str, &'static str) {
+        // showinfo prints each frame's exact timestamp; its checksums are not needed.
+        match self {
+            Transfer::LumaPlane { .. } => ("showinfo=checksum=0,extractplanes=y", "gray"),
+            Transfer::Gray => ("showinfo=checksum=0", "gray"),
+            Transfer::Rgb => ("showinfo=checksum=0", "rgb24"),
+        }
+    }
+
+    fn bytes_per_pixel(self) -> usize {
+        match self {
+            Transfer::Rgb => 3,
+            _ => 1,
+        }
+    }
 }
 
 fn ratio(s: &str) -> Option<(i64, i64)> {
@@ -98,7 +174,7 @@ fn probe(path: &Path) -> Result<Probe, SourceError> {
             "-select_streams",
             "v:0",
             "-show_entries",
-            "stream=codec_name,width,height,time_base,start_pts,nb_frames,avg_frame_rate,duration:format=duration",
+            "stream=codec_name,width,height,time_base,start_pts,nb_frames,avg_frame_rate,duration,pix_fmt,color_range:format=duration",
             "-of",
             "default=noprint_wrappers=1",
         ],
@@ -125,6 +201,8 @@ fn probe(path: &Path) -> Result<Probe, SourceError> {
                     .filter(|f| *f > 0.0)
             }
             "duration" if p.duration.is_none() => p.duration = v.parse().ok(),
+            "pix_fmt" => p.pix_fmt = v.to_string(),
+            "color_range" => p.color_range = v.to_string(),
             _ => {}
         }
     }
@@ -142,13 +220,22 @@ fn seconds(pts: i64, start: i64, tb: (i64, i64)) -> Seconds {
     Seconds((pts - start) as f64 * tb.0 as f64 / tb.1 as f64)
 }
 
-/// Frames a key-frame-only decode keeps, `(pts, index in presentation order)`; `None` when some
-/// interval's first frame is not a key frame (or timestamps are missing), so a full decode is needed.
+/// What a key-frame-only decode will do, planned from the packet index.
+struct KeyFramePlan {
+    /// Frames it keeps, `(pts, index in presentation order)`.
+    kept: VecDeque<(i64, u64)>,
+    /// Whether packets arrive out of presentation order (B-frames): their key frames are then
+    /// decoded in place, since passing them on through another container loses their exact times.
+    reorders: bool,
+}
+
+/// Plan a key-frame-only decode; `None` when some interval's first frame is not a key frame (or
+/// timestamps are missing), so a full decode is needed.
 fn plan_key_frames(
     path: &Path,
     p: &Probe,
     every: Seconds,
-) -> Result<Option<VecDeque<(i64, u64)>>, SourceError> {
+) -> Result<Option<KeyFramePlan>, SourceError> {
     let mut child = Command::new("ffprobe")
         .args([
             "-v",
@@ -156,7 +243,7 @@ fn plan_key_frames(
             "-select_streams",
             "v:0",
             "-show_entries",
-            "packet=pts,flags",
+            "packet=pts,dts,flags",
             "-of",
             "csv=p=0",
         ])
@@ -177,6 +264,7 @@ fn plan_key_frames(
     let mut kept = VecDeque::new();
     let mut index = 0u64;
     let mut ok = true;
+    let mut reorders = false;
     let mut visit = |pts: i64, key: bool, ok: &mut bool| {
         if thin.keep(seconds(pts, p.start_pts, p.time_base)) {
             if !key {
@@ -189,9 +277,10 @@ fn plan_key_frames(
     for line in BufReader::new(out).lines() {
         let Ok(line) = line else { break };
         let mut cells = line.split(',');
-        let (Some(pts), Some(flags)) = (cells.next(), cells.next()) else {
+        let (Some(pts), Some(dts), Some(flags)) = (cells.next(), cells.next(), cells.next()) else {
             continue;
         };
+        reorders |= pts.trim() != dts.trim();
         if flags.contains('D') {
             continue;
         }
@@ -217,7 +306,7 @@ fn plan_key_frames(
     }
     let _ = child.kill();
     let _ = child.wait();
-    Ok(ok.then_some(kept))
+    Ok(ok.then_some(KeyFramePlan { kept, reorders }))
 }
 
 enum ErrMsg {
@@ -257,19 +346,112 @@ fn looks_like_problem(line: &str) -> bool {
     !line.contains("Parsed_showinfo") && WORDS.iter().any(|w| line.contains(w))
 }
 
+/// What the pipe reader hands over, in order; the channel closing means the pipe ended cleanly.
+enum Piece {
+    Picture(Vec<u8>),
+    /// The pipe ended inside a picture, after this many of its bytes.
+    Partial(usize),
+    Failed(String),
+}
+
+/// Drain ffmpeg's stdout one picture at a time into `frame_bytes` buffers (taken from `spare` when
+/// one has come back, else new), passing each through the bounded `pictures` queue.
+fn spawn_pipe_reader(
+    mut out: ChildStdout,
+    frame_bytes: usize,
+    spare: Receiver<Vec<u8>>,
+    pictures: SyncSender<Piece>,
+) -> JoinHandle<()> {
+    std::thread::spawn(move || loop {
+        let mut buf = match spare.try_recv() {
+            Ok(b) if b.len() == frame_bytes => b,
+            _ => vec![0; frame_bytes],
+        };
+        let mut filled = 0;
+        let mut failed = None;
+        while filled < frame_bytes {
+            match out.read(&mut buf[filled..]) {
+                Ok(0) => break,
+                Ok(n) => filled += n,
+                Err(e) if e.kind() == std::io::ErrorKind::Interrupted => {}
+                Err(e) => {
+                    failed = Some(e.to_string());
+                    break;
+                }
+            }
+        }
+        let piece = match (failed, filled) {
+            (Some(e), _) => Piece::Failed(e),
+            (None, 0) => return,
+            (None, n) if n < frame_bytes => Piece::Partial(n),
+            (None, _) => Piece::Picture(buf),
+        };
+        let more = matches!(piece, Piece::Picture(_));
+        if pictures.send(piece).is_err() || !more {
+            return;
+        }
+    })
+}
+
+/// Ask for a larger pipe buffer, so a picture crosses in a few large copies (Linux only; a refusal
+/// only costs speed).
+fn widen_pipe(out: &ChildStdout) {
+    #[cfg(target_os = "linux")]
+    {
+        use std::os::fd::AsRawFd;
+        // SAFETY: F_SETPIPE_SZ on a pipe descriptor we own; it changes only the buffer size.
+        unsafe {
+            libc::fcntl(out.as_raw_fd(), libc::F_SETPIPE_SZ, PIPE_BYTES);
+        }
+    }
+    #[cfg(not(target_os = "linux"))]
+    let _ = out;
+}
+
+/// Read an ffmpeg's stderr: timing lines go to `stamps` (when given), the last few lines that look
+/// like problems to `problems`.
+fn spawn_stderr_reader(
+    err: ChildStderr,
+    stamps: Option<Sender<ErrMsg>>,
+    problems: Arc<Mutex<VecDeque<String>>>,
+) -> JoinHandle<()> {
+    std::thread::spawn(move || {
+        for line in BufReader::new(err).lines() {
+            let Ok(line) = line else { break };
+            if let Some(m) = parse_stderr_line(&line) {
+                if stamps.as_ref().is_some_and(|tx| tx.send(m).is_err()) {
+                    break;
+                }
+            } else if looks_like_problem(&line) {
+                if let Ok(mut q) = problems.lock() {
+                    if q.len() >= 6 {
+                        q.pop_front();
+                    }
+                    q.push_back(line.trim().to_string());
+                }
+            }
+        }
+    })
+}
+
 /// A video decoded by the `ffmpeg` program.
 pub struct FfmpegSource {
     info: SourceInfo,
     path: PathBuf,
     probe: Probe,
     child: Option<Child>,
-    stdout: Option<ChildStdout>,
+    /// With key frames only: the ffmpeg that passes the key-frame packets to `child`.
+    demuxer: Option<Child>,
+    pictures: Option<Receiver<Piece>>,
+    spare: Sender<Vec<u8>>,
+    pipe_reader: Option<JoinHandle<()>>,
     stamps: Receiver<ErrMsg>,
     problems: Arc<Mutex<VecDeque<String>>>,
     reader: Option<JoinHandle<()>>,
     time_base: (i64, i64),
     channel: Channel,
-    buf: Vec<u8>,
+    transfer: Transfer,
+    frame_bytes: usize,
     thin: Thinner,
     plan: Option<VecDeque<(i64, u64)>>,
     pending: VecDeque<Delivery>,
@@ -296,35 +478,75 @@ impl FfmpegSource {
             });
         }
         let p = probe(path)?;
-        let plan = match opts.every {
-            Some(e) => plan_key_frames(path, &p, e)?,
-            None => None,
+        let (plan, reorders) = match opts.every {
+            Some(e) => match plan_key_frames(path, &p, e)? {
+                Some(k) => (Some(k.kept), k.reorders),
+                None => (None, false),
+            },
+            None => (None, false),
         };
-        let rgb = opts.channel != Channel::Luma;
+        let transfer = Transfer::choose(&p, opts.channel);
+        let (filters, pix_fmt) = transfer.ffmpeg_output();
+        let problems = Arc::new(Mutex::new(VecDeque::new()));
+        // Key frames only: a first ffmpeg passes just the key-frame packets on (no decoding), so the
+        // decoder sees an all-intra stream and its frame threads decode pictures side by side; told
+        // to skip the other frames itself, one decoder works through them one at a time. Streams
+        // with B-frames take the slower way: their times do not survive the copy.
+        let mut demuxer = None;
         let mut cmd = Command::new("ffmpeg");
         cmd.args(["-hide_banner", "-nostdin", "-nostats", "-loglevel", "info"]);
-        if plan.is_some() {
-            cmd.args(["-skip_frame", "nokey"]);
+        if plan.is_some() && reorders {
+            cmd.args(["-skip_frame", "nokey", "-noautorotate", "-i"])
+                .arg(path);
+            cmd.stdin(Stdio::null());
+        } else if plan.is_some() {
+            let mut d = Command::new("ffmpeg")
+                .args(["-hide_banner", "-nostdin", "-nostats", "-loglevel", "error"])
+                .args(["-discard", "nokey", "-noautorotate", "-i"])
+                .arg(path)
+                .args([
+                    "-map", "0:v:0", "-c", "copy", "-copyts", "-f", "nut", "pipe:1",
+                ])
+                .stdin(Stdio::null())
+                .stdout(Stdio::piped())
+                .stderr(Stdio::piped())
+                .spawn()
+                .map_err(|e| SourceError::NeedsDecoder {
+                    path: path.display().to_string(),
+                    codec: p.codec.clone(),
+                    advice: format!("cannot start ffmpeg ({e}); {}", super::INSTALL_FFMPEG),
+                })?;
+            let packets = d.stdout.take();
+            if let Some(err) = d.stderr.take() {
+                spawn_stderr_reader(err, None, problems.clone());
+            }
+            demuxer = Some(d);
+            cmd.args(["-skip_frame", "nokey", "-f", "nut", "-i", "pipe:0"]);
+            cmd.stdin(packets.map_or_else(Stdio::null, Stdio::from));
+        } else {
+            cmd.arg("-noautorotate").arg("-i").arg(path);
+            cmd.stdin(Stdio::null());
         }
-        cmd.arg("-noautorotate").arg("-i").arg(path);
+        // `-copyts`: the times showinfo reports are the file's own, so they count from the stream's
+        // first timestamp as ffprobe reported it, wherever the file starts.
         cmd.args([
+            "-copyts",
             "-map",
             "0:v:0",
             "-an",
             "-sn",
             "-dn",
             "-vf",
-            "showinfo",
+            filters,
             "-vsync",
             "passthrough",
             "-f",
             "rawvideo",
             "-pix_fmt",
-            if rgb { "rgb24" } else { "gray" },
+            pix_fmt,
             "pipe:1",
         ]);
         let mut child = cmd
-            .stdin(Stdio::null())
             .stdout(Stdio::piped())
             .stderr(Stdio::piped())
             .spawn()
@@ -333,30 +555,19 @@ impl FfmpegSource {
                 codec: p.codec.clone(),
                 advice: format!("cannot start ffmpeg ({e}); {}", super::INSTALL_FFMPEG),
             })?;
-        let stdout = child.stdout.take();
-        let stderr = child.stderr.take();
-        let (tx, rx) = channel();
-        let problems = Arc::new(Mutex::new(VecDeque::new()));
-        let sink = problems.clone();
-        let reader = stderr.map(|err| {
-            std::thread::spawn(move || {
-                for line in BufReader::new(err).lines() {
-                    let Ok(line) = line else { break };
-                    if let Some(m) = parse_stderr_line(&line) {
-                        if tx.send(m).is_err() {
-                            break;
-                        }
-                    } else if looks_like_problem(&line) {
-                        if let Ok(mut q) = sink.lock() {
-                            if q.len() >= 6 {
-                                q.pop_front();
-                            }
-                            q.push_back(line.trim().to_string());
-                        }
-                    }
-                }
-            })
+        drop(cmd);
+        let frame_bytes = p.width * p.height * transfer.bytes_per_pixel();
+        let (spare_tx, spare_rx) = channel();
+        let (pictures_tx, pictures_rx) = sync_channel(QUEUED_PICTURES);
+        let pipe_reader = child.stdout.take().map(|out| {
+            widen_pipe(&out);
+            spawn_pipe_reader(out, frame_bytes, spare_rx, pictures_tx)
         });
+        let (tx, rx) = channel();
+        let reader = child
+            .stderr
+            .take()
+            .map(|err| spawn_stderr_reader(err, Some(tx), problems.clone()));
         let expected = match (&plan, opts.every) {
             (Some(k), _) => Some(k.len() as u64),
             (None, Some(e)) => p.duration.map(|d| (d / e.0).ceil() as u64),
@@ -384,19 +595,22 @@ impl FfmpegSource {
             height: p.height,
             expected_frames: expected,
         };
-        let frame_bytes = p.width * p.height * if rgb { 3 } else { 1 };
         Ok(Self {
             info,
             path: path.to_path_buf(),
             time_base: p.time_base,
             probe: p,
             child: Some(child),
-            stdout,
+            demuxer,
+            pictures: Some(pictures_rx),
+            spare: spare_tx,
+            pipe_reader,
             stamps: rx,
             problems,
             reader,
             channel: opts.channel,
-            buf: vec![0; frame_bytes],
+            transfer,
+            frame_bytes,
             thin: Thinner::new(opts.every),
             plan,
             pending: VecDeque::new(),
@@ -411,29 +625,26 @@ impl FfmpegSource {
         self.plan.is_some()
     }
 
-    /// Fill the buffer with the next frame's bytes: Ok(true) full frame, Ok(false) clean end.
-    fn read_frame(&mut self) -> Result<bool, String> {
-        let Some(out) = self.stdout.as_mut() else {
-            return Ok(false);
+    /// The next picture's bytes: Ok(Some) a full picture, Ok(None) a clean end.
+    fn next_picture(&mut self) -> Result<Option<Vec<u8>>, String> {
+        let Some(pictures) = self.pictures.as_ref() else {
+            return Ok(None);
         };
-        let mut filled = 0;
-        while filled < self.buf.len() {
-            match out.read(&mut self.buf[filled..]) {
-                Ok(0) => break,
-                Ok(n) => filled += n,
-                Err(e) if e.kind() == std::io::ErrorKind::Interrupted => {}
-                Err(e) => return Err(e.to_string()),
-            }
+        match pictures.recv() {
+            Ok(Piece::Picture(b)) => Ok(Some(b)),
+            Ok(Piece::Partial(n)) => Err(format!(
+                "the last frame arrived incomplete ({n} of {} bytes)",
+                self.frame_bytes
+            )),
+            Ok(Piece::Failed(e)) => Err(e),
+            Err(_) => Ok(None),
         }
-        if filled == 0 {
-            Ok(false)
-        } else if filled < self.buf.len() {
-            Err(format!(
-                "the last frame arrived incomplete ({filled} of {} bytes)",
-                self.buf.len()
-            ))
-        } else {
-            Ok(true)
+    }
+
+    /// Hand a picture buffer back to the pipe reader.
+    fn give_back(&self, bytes: Vec<u8>) {
+        if bytes.len() == self.frame_bytes {
+            let _ = self.spare.send(bytes);
         }
     }
 
@@ -457,22 +668,63 @@ impl FfmpegSource {
         }
     }
 
-    fn plane(&self) -> Plane {
+    /// A timestamp of the decoder's output in the ticks of the file's own time base (the key-frame
+    /// path passes packets through another container, whose time base may differ).
+    fn probe_ticks(&self, pts: i64) -> i64 {
+        let (a, b) = self.time_base;
+        let (pa, pb) = self.probe.time_base;
+        if (a, b) == (pa, pb) || a <= 0 || b <= 0 || pa <= 0 || pb <= 0 {
+            return pts;
+        }
+        let num = pts as i128 * a as i128 * pb as i128;
+        let den = b as i128 * pa as i128;
+        (num + num.signum() * den / 2).checked_div(den).unwrap_or(0) as i64
+    }
+
+    fn plane(&self, bytes: Vec<u8>) -> Result<Plane, PlaneSizeError> {
         let (w, h) = (self.info.width, self.info.height);
-        if self.channel == Channel::Luma {
-            Plane::from_u8(w, h, &self.buf)
-        } else {
-            super::pixels::plane_from_rgb24(w, h, &self.buf, self.channel)
+        match self.transfer {
+            Transfer::LumaPlane { widen: true } => Plane::from_studio_luma_vec(w, h, bytes),
+            Transfer::LumaPlane { widen: false } => Plane::from_u8_vec(w, h, bytes),
+            Transfer::Gray => Plane::from_u8_vec(w, h, bytes),
+            Transfer::Rgb => {
+                let plane = super::pixels::plane_from_rgb24(w, h, &bytes, self.channel);
+                self.give_back(bytes);
+                Ok(plane)
+            }
+        }
+    }
+
+    /// Stop the pipe reader and the child (killed unless it has already ended).
+    fn shut_down(&mut self, kill: bool) -> Option<std::process::ExitStatus> {
+        // Closing the queue first lets a pipe reader blocked on a full queue end, which closes the
+        // pipe, so an ffmpeg blocked on writing ends too.
+        self.pictures = None;
+        let stop = |c: Option<Child>| {
+            c.and_then(|mut c| {
+                if kill {
+                    let _ = c.kill();
+                }
+                c.wait().ok()
+            })
+        };
+        let status = stop(self.child.take());
+        let demuxed = stop(self.demuxer.take());
+        if let Some(r) = self.pipe_reader.take() {
+            let _ = r.join();
+        }
+        if let Some(r) = self.reader.take() {
+            let _ = r.join();
+        }
+        match (status, demuxed) {
+            (Some(s), Some(d)) if s.success() => Some(d),
+            (s, _) => s,
         }
     }
 
     fn finish(&mut self, read_error: Option<String>) -> Option<Result<Delivery, SourceError>> {
         self.done = true;
-        self.stdout = None;
-        let status = self.child.take().and_then(|mut c| c.wait().ok());
-        if let Some(r) = self.reader.take() {
-            let _ = r.join();
-        }
+        let status = self.shut_down(false);
         let problems: Vec<String> = self
             .problems
             .lock()
@@ -522,31 +774,32 @@ impl FrameSource for FfmpegSource {
             if self.done {
                 return None;
             }
-            match self.read_frame() {
-                Ok(true) => {}
-                Ok(false) => return self.finish(None),
+            let bytes = match self.next_picture() {
+                Ok(Some(b)) => b,
+                Ok(None) => return self.finish(None),
                 Err(e) => return self.finish(Some(e)),
-            }
+            };
             let Some(pts) = self.next_pts() else {
                 return self.finish(Some(
                     "a frame arrived without its timestamp from the showinfo filter".into(),
                 ));
             };
             let t = self.t_of(pts);
-            let origin = format!("frame at t = {:.3} s of {}", t.0, self.path.display());
+            let ticks = self.probe_ticks(pts);
             let index = match self.plan.as_mut() {
                 None => {
                     let i = self.decoded;
                     self.decoded += 1;
                     self.last_t = t.0;
                     if !self.thin.keep(t) {
+                        self.give_back(bytes);
                         continue;
                     }
                     i
                 }
                 Some(plan) => {
                     // Planned key frames the decoder skipped are reported, then this one is matched.
-                    while plan.front().is_some_and(|&(p, _)| p < pts) {
+                    while plan.front().is_some_and(|&(p, _)| p < ticks) {
                         if let Some((p, i)) = plan.pop_front() {
                             let tt = seconds(p, self.probe.start_pts, self.probe.time_base);
                             self.pending.push_back(Delivery::Unreadable {
@@ -558,36 +811,46 @@ impl FrameSource for FfmpegSource {
                         }
                     }
                     match plan.front() {
-                        Some(&(p, i)) if p == pts => {
+                        Some(&(p, i)) if p == ticks => {
                             plan.pop_front();
                             self.decoded = i + 1;
                             self.last_t = t.0;
                             i
                         }
-                        _ => continue,
+                        _ => {
+                            self.give_back(bytes);
+                            continue;
+                        }
                     }
                 }
+            };
+            let plane = match self.plane(bytes) {
+                Ok(p) => p,
+                Err(e) => return self.finish(Some(e.to_string())),
             };
             let frame = Frame {
                 index,
                 t,
-                plane: self.plane(),
-                origin: origin.replacen("frame at", &format!("frame {index} at"), 1),
+                plane,
+                origin: format!(
+                    "frame {index} at t = {:.3} s of {}",
+                    t.0,
+                    self.path.display()
+                ),
             };
             self.pending.push_back(Delivery::Frame(frame));
+        }
+    }
+
+    fn recycle(&mut self, frame: Frame) {
+        if let Some(bytes) = frame.plane.into_u8_vec() {
+            self.give_back(bytes);
         }
     }
 }
 
 impl Drop for FfmpegSource {
     fn drop(&mut self) {
-        self.stdout = None;
-        if let Some(mut c) = self.child.take() {
-            let _ = c.kill();
-            let _ = c.wait();
-        }
-        if let Some(r) = self.reader.take() {
-            let _ = r.join();
-        }
+        self.shut_down(true);
     }
 }

@@ -25,6 +25,7 @@ mod times;
 pub use ffmpeg::{ffmpeg_available, FfmpegSource};
 pub use h264::BuiltinH264Source;
 pub use natural::natural_cmp;
+pub use pixels::expand_limited_luma_in_place;
 pub use sequence::ImageSequence;
 pub use thin::{keyframes_suffice, Thinner};
 pub use times::read_times;
@@ -112,6 +113,11 @@ pub trait FrameSource {
     fn info(&self) -> &SourceInfo;
     /// The next frame, `None` at the end.
     fn next_delivery(&mut self) -> Option<Result<Delivery, SourceError>>;
+    /// Give a delivered frame back once it has been used, so its pixel buffer can be filled again
+    /// instead of allocating a new one. Optional: a frame that is simply dropped costs only speed.
+    fn recycle(&mut self, frame: Frame) {
+        drop(frame);
+    }
 }
 
 /// Which decoder reads video files.

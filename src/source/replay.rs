@@ -118,6 +118,10 @@ impl FrameSource for ReplaySource {
         }
         Some(item)
     }
+
+    fn recycle(&mut self, frame: crate::frame::Frame) {
+        self.inner.recycle(frame);
+    }
 }
 
 #[cfg(test)]

@@ -1,7 +1,7 @@
 //! The local background around the spot: a plane (level and slopes) fitted robustly to a square ring of
 //! pixels just outside the spot's reach, and its slow smoothing from frame to frame.
 
-use super::image::{median_and_sigma, Img, Rect};
+use super::image::{median_and_sigma, Img, Pixel, Rect};
 use super::learned::ScreenModel;
 use crate::units::PixelPoint;
 use nalgebra::{Matrix3, Vector3};
@@ -56,8 +56,8 @@ impl Under<'_> {
 /// Clipped pixels are left out; pixels further than three robust standard deviations from the median
 /// (ruling lines, other light) are trimmed before a least-squares plane fit. `None` when fewer than
 /// twelve pixels remain. With a learned `screen`, the plane is fitted to what differs from it.
-pub(crate) fn ring_background(
-    img: &Img,
+pub(crate) fn ring_background<P: Pixel>(
+    img: &Img<P>,
     rect: &Rect,
     (cx, cy): (usize, usize),
     radius: usize,
@@ -70,7 +70,7 @@ pub(crate) fn ring_background(
     for y in win.y0..win.y1 {
         let dy = y.abs_diff(cy);
         let row = img.row(y, win.x0, win.x1);
-        for (i, &v) in row.iter().enumerate() {
+        for (i, v) in row.iter().map(|v| v.value()).enumerate() {
             let x = win.x0 + i;
             let d = dy.max(x.abs_diff(cx));
             if d >= inner && d <= radius && !img.clipped(v) {

@@ -2,7 +2,7 @@
 //! when a fit is not possible.
 
 use super::background::Under;
-use super::image::{Img, Rect};
+use super::image::{Img, Pixel, Rect};
 
 /// A centroid and how many pixels lay above half the peak.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -14,8 +14,8 @@ pub(crate) struct Centroid {
 
 /// Centre of `max(v - background - threshold, 0)` over the square of half-size `half` around `centre`
 /// (clipped pixels count at the white level). `None` when nothing exceeds the threshold.
-pub(crate) fn weighted_centroid(
-    img: &Img,
+pub(crate) fn weighted_centroid<P: Pixel>(
+    img: &Img<P>,
     rect: &Rect,
     centre: crate::units::PixelPoint,
     half: usize,
@@ -28,7 +28,12 @@ pub(crate) fn weighted_centroid(
     let mut above_half = 0usize;
     for y in win.y0..win.y1 {
         let yf = y as f64;
-        for (i, &v) in img.row(y, win.x0, win.x1).iter().enumerate() {
+        for (i, v) in img
+            .row(y, win.x0, win.x1)
+            .iter()
+            .map(|v| v.value())
+            .enumerate()
+        {
             let x = (win.x0 + i) as f64;
             let a = v as f64 - bg.at(win.x0 + i, y);
             if a > half_peak {

@@ -1,35 +1,74 @@
 //! A borrowed, row-major view of a plane and the rectangle the finder may look in.
+//!
+//! The view is generic over the stored pixel type ([`Pixel`]: `u8` or `u16`), so the finder runs on
+//! a plane's own storage without widening it; each loop is compiled once per type.
 
 use super::Roi;
-use crate::frame::Plane;
+
+mod sealed {
+    pub trait Sealed {}
+    impl Sealed for u8 {}
+    impl Sealed for u16 {}
+    impl Sealed for super::StudioLuma {}
+}
+
+/// One studio-range luma sample, read as full range (see [`crate::frame::Pixels::Studio`]).
+#[derive(Debug, Clone, Copy)]
+#[repr(transparent)]
+pub(crate) struct StudioLuma(pub u8);
+
+impl StudioLuma {
+    /// View stored studio-range bytes as samples, without copying.
+    pub fn slice(bytes: &[u8]) -> &[StudioLuma] {
+        // SAFETY: `StudioLuma` is `repr(transparent)` over `u8`, so it has the same size, alignment
+        // and validity; the new slice covers exactly the same memory for the same lifetime.
+        unsafe { std::slice::from_raw_parts(bytes.as_ptr().cast::<StudioLuma>(), bytes.len()) }
+    }
+}
+
+impl Pixel for StudioLuma {
+    #[inline(always)]
+    fn value(self) -> u16 {
+        crate::frame::studio_to_full(self.0).into()
+    }
+}
+
+/// A stored pixel type the finder can read: `u8`, `u16` or studio-range luma.
+pub(crate) trait Pixel: Copy + sealed::Sealed {
+    /// The value as a 16-bit number.
+    fn value(self) -> u16;
+}
+
+impl Pixel for u8 {
+    #[inline(always)]
+    fn value(self) -> u16 {
+        self as u16
+    }
+}
+
+impl Pixel for u16 {
+    #[inline(always)]
+    fn value(self) -> u16 {
+        self
+    }
+}
 
 /// Pixels of a plane as one row-major slice.
-pub(crate) struct Img<'a> {
-    pub data: &'a [u16],
+pub(crate) struct Img<'a, P: Pixel> {
+    pub data: &'a [P],
     pub w: usize,
     pub h: usize,
     pub white: u16,
 }
 
-impl<'a> Img<'a> {
-    /// View `plane`; `None` when its storage is not one standard-layout block (then the caller copies).
-    pub fn of(plane: &'a Plane) -> Option<Self> {
-        let data = plane.pixels.as_slice()?;
-        Some(Self {
-            data,
-            w: plane.width(),
-            h: plane.height(),
-            white: plane.white,
-        })
-    }
-
+impl<P: Pixel> Img<'_, P> {
     #[inline]
     pub fn get(&self, x: usize, y: usize) -> u16 {
-        self.data[y * self.w + x]
+        self.data[y * self.w + x].value()
     }
 
     #[inline]
-    pub fn row(&self, y: usize, x0: usize, x1: usize) -> &[u16] {
+    pub fn row(&self, y: usize, x0: usize, x1: usize) -> &[P] {
         &self.data[y * self.w + x0..y * self.w + x1]
     }
 

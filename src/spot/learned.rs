@@ -6,7 +6,7 @@
 //! spot is measured on top of it. A plane fitted to the ring around the spot still absorbs changes of
 //! room light. Memory is one value and one count per pixel, independent of the run's length.
 
-use super::image::{Img, Rect};
+use super::image::{Img, Pixel, Rect};
 use crate::units::PixelPoint;
 
 /// Frames a pixel must have been seen without the spot before its learned value is used.
@@ -57,7 +57,14 @@ impl ScreenModel {
 
     /// Fold in the pixels of `img` within Chebyshev distance `half` of `spot` but further than
     /// `reach` from it (clipped pixels left out).
-    pub fn learn(&mut self, img: &Img, rect: &Rect, spot: PixelPoint, reach: usize, half: usize) {
+    pub fn learn<P: Pixel>(
+        &mut self,
+        img: &Img<P>,
+        rect: &Rect,
+        spot: PixelPoint,
+        reach: usize,
+        half: usize,
+    ) {
         if img.w != self.w || img.h != self.h {
             self.reset(img.w, img.h);
         }
@@ -68,21 +75,52 @@ impl ScreenModel {
         let Some(win) = rect.around(spot.x, spot.y, half) else {
             return;
         };
+        // The excluded square around the spot, as a column range per row.
         let (cx, cy) = (spot.x.round(), spot.y.round());
         let r = reach as f64;
+        let skip_x0 = (cx - r).max(0.0) as usize;
+        let skip_x1 = ((cx + r).max(-1.0) + 1.0) as usize;
         for y in win.y0..win.y1 {
-            let near_row = (y as f64 - cy).abs() <= r;
             let row = img.row(y, win.x0, win.x1);
-            for (i, &v) in row.iter().enumerate() {
-                let x = win.x0 + i;
-                if (near_row && (x as f64 - cx).abs() <= r) || img.clipped(v) {
-                    continue;
+            let base = y * self.w + win.x0;
+            let mean = &mut self.mean[base..base + row.len()];
+            let seen = &mut self.seen[base..base + row.len()];
+            let near_row = (y as f64 - cy).abs() <= r;
+            let (a, b) = if near_row {
+                (
+                    skip_x0.clamp(win.x0, win.x1) - win.x0,
+                    skip_x1.clamp(win.x0, win.x1) - win.x0,
+                )
+            } else {
+                (row.len(), row.len())
+            };
+            for part in [0..a, b..row.len()] {
+                for ((v, m), n) in row[part.clone()]
+                    .iter()
+                    .zip(&mut mean[part.clone()])
+                    .zip(&mut seen[part])
+                {
+                    let v = v.value();
+                    if img.clipped(v) {
+                        continue;
+                    }
+                    let k = (*n + 1).min(MAX_SEEN);
+                    *m += (v as f32 - *m) * RECIPROCAL[k as usize];
+                    *n = k;
                 }
-                let k = y * self.w + x;
-                let n = (self.seen[k] + 1).min(MAX_SEEN);
-                self.mean[k] += (v as f32 - self.mean[k]) / n as f32;
-                self.seen[k] = n;
             }
         }
     }
 }
+
+/// 1 / n for the running mean's counts 0..=MAX_SEEN (entry 0 unused), so the per-pixel update
+/// multiplies instead of dividing.
+const RECIPROCAL: [f32; MAX_SEEN as usize + 1] = {
+    let mut t = [0.0f32; MAX_SEEN as usize + 1];
+    let mut i = 1;
+    while i <= MAX_SEEN as usize {
+        t[i] = 1.0 / i as f32;
+        i += 1;
+    }
+    t
+};

@@ -4,7 +4,7 @@
 use super::background::{ring_background, LocalBackground, Under};
 use super::centroid::weighted_centroid;
 use super::fit::{fit_gaussian, Gaussian, Sample};
-use super::image::{Img, Rect};
+use super::image::{Img, Pixel, Rect};
 use super::learned::ScreenModel;
 use super::{SpotConfig, SpotFix, SpotStatus};
 use crate::units::PixelPoint;
@@ -17,8 +17,8 @@ pub(crate) struct Measurement {
 }
 
 /// The brightest 3 x 3 neighbourhood within `half` px of (x, y): a starting point only.
-pub(crate) fn brightest_patch(
-    img: &Img,
+pub(crate) fn brightest_patch<P: Pixel>(
+    img: &Img<P>,
     rect: &Rect,
     x: usize,
     y: usize,
@@ -50,8 +50,8 @@ pub(crate) fn brightest_patch(
 /// the caller has a better (smoothed) one; `filter` turns the fresh one into that better one. When
 /// `screen` has learned every pixel within reach of the seed, the screen's pattern is taken away first
 /// and the ring plane only models what changed since (the filter is then not used).
-pub(crate) fn measure(
-    img: &Img,
+pub(crate) fn measure<P: Pixel>(
+    img: &Img<P>,
     rect: &Rect,
     (sx, sy): (usize, usize),
     config: &SpotConfig,
@@ -120,7 +120,12 @@ pub(crate) fn measure(
     let mut saturated_px = 0u32;
     let mut sum_above = 0.0;
     for y in win.y0..win.y1 {
-        for (i, &v) in img.row(y, win.x0, win.x1).iter().enumerate() {
+        for (i, v) in img
+            .row(y, win.x0, win.x1)
+            .iter()
+            .map(|v| v.value())
+            .enumerate()
+        {
             let x = (win.x0 + i) as f64;
             let yf = y as f64;
             let b = under.at(win.x0 + i, y);

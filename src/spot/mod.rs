@@ -37,9 +37,10 @@ mod tracker;
 pub use background::LocalBackground;
 pub use tracker::Tracker;
 
-use crate::frame::Plane;
+use crate::frame::{Pixels, Plane};
 use crate::units::PixelPoint;
-use image::{Img, Rect};
+use image::{Img, Pixel, Rect, StudioLuma};
+use ndarray::Array2;
 use serde::{Deserialize, Serialize};
 
 /// How a located spot should be read.
@@ -209,39 +210,75 @@ impl SpotConfig {
 /// One-shot search over the whole plane (or the configured ROI): coarse search, then measurement of the
 /// strongest candidate. `Lost` when nothing stands out, `Ambiguous` when a comparable second spot exists.
 pub fn locate(plane: &Plane, config: &SpotConfig) -> SpotFix {
-    with_image(plane, |img| {
-        let config = config.sanitised();
+    with_image(plane, Locate(config))
+}
+
+/// The job of [`locate`].
+struct Locate<'c>(&'c SpotConfig);
+
+impl ImageJob for Locate<'_> {
+    type Output = SpotFix;
+
+    fn run<P: Pixel>(self, img: &Img<P>) -> SpotFix {
+        let config = self.0.sanitised();
         match Rect::for_image(img.w, img.h, config.roi) {
             Some(rect) => full_search(img, &rect, &config, None, &mut |b| b).0,
             None => SpotFix::without_position(SpotStatus::Lost),
         }
-    })
+    }
 }
 
-/// Run `f` on a row-major view of `plane`, copying it first if its storage is not in standard layout.
-pub(crate) fn with_image<T>(plane: &Plane, f: impl FnOnce(&Img) -> T) -> T {
-    match Img::of(plane) {
-        Some(img) => f(&img),
-        None => {
-            let owned = Plane::new(plane.pixels.as_standard_layout().into_owned(), plane.white);
-            match Img::of(&owned) {
-                Some(img) => f(&img),
-                None => f(&Img {
-                    data: &[],
-                    w: 0,
-                    h: 0,
+/// Work done on a row-major view of a plane, whichever pixel type the plane stores.
+pub(crate) trait ImageJob {
+    type Output;
+    fn run<P: Pixel>(self, img: &Img<P>) -> Self::Output;
+}
+
+/// Run `job` on a row-major view of `plane`'s own pixels, copying them first only if their storage is
+/// not in standard layout.
+pub(crate) fn with_image<J: ImageJob>(plane: &Plane, job: J) -> J::Output {
+    match plane.pixels() {
+        Pixels::Eight(a) => with_array(a, plane.white, job),
+        Pixels::Sixteen(a) => with_array(a, plane.white, job),
+        Pixels::Studio(a) => {
+            let std = a.as_standard_layout();
+            match std.as_slice() {
+                Some(bytes) => job.run(&Img {
+                    data: StudioLuma::slice(bytes),
+                    w: std.ncols(),
+                    h: std.nrows(),
                     white: plane.white,
                 }),
+                None => with_array(&a.mapv(StudioLuma), plane.white, job),
             }
         }
+    }
+}
+
+fn with_array<P: Pixel, J: ImageJob>(a: &Array2<P>, white: u16, job: J) -> J::Output {
+    // A view when the array is already standard layout, a copy otherwise.
+    let std = a.as_standard_layout();
+    match std.as_slice() {
+        Some(data) => job.run(&Img {
+            data,
+            w: std.ncols(),
+            h: std.nrows(),
+            white,
+        }),
+        None => job.run(&Img::<P> {
+            data: &[],
+            w: 0,
+            h: 0,
+            white,
+        }),
     }
 }
 
 /// Coarse search of `rect` and measurement of the best candidate, with the background passed through
 /// `filter` (on top of the learned `screen`, where it covers the spot). Returns the answer and the
 /// background used (when a spot was measured).
-pub(crate) fn full_search(
-    img: &Img,
+pub(crate) fn full_search<P: Pixel>(
+    img: &Img<P>,
     rect: &Rect,
     config: &SpotConfig,
     screen: Option<&learned::ScreenModel>,

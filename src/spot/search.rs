@@ -6,7 +6,7 @@
 //! spots can be reported. One pass over the pixels plus work on a 16 times smaller grid keeps a
 //! 1920 x 1080 frame within a few milliseconds.
 
-use super::image::{median_and_sigma, Img, Rect};
+use super::image::{median_and_sigma, Img, Pixel, Rect};
 
 /// Side of the blocks averaged for the search, px.
 pub(crate) const BLOCK: usize = 4;
@@ -37,7 +37,7 @@ pub(crate) fn ring_blocks(max_sigma_px: f64) -> (usize, usize) {
 }
 
 /// Search `rect` of `img` for the strongest local excess of light.
-pub(crate) fn coarse_search(img: &Img, rect: &Rect, max_sigma_px: f64) -> Search {
+pub(crate) fn coarse_search<P: Pixel>(img: &Img<P>, rect: &Rect, max_sigma_px: f64) -> Search {
     let bw = rect.width() / BLOCK;
     let bh = rect.height() / BLOCK;
     let empty = Search {
@@ -56,7 +56,7 @@ pub(crate) fn coarse_search(img: &Img, rect: &Rect, max_sigma_px: f64) -> Search
             let y = rect.y0 + by * BLOCK + dy;
             let row = img.row(y, rect.x0, rect.x0 + bw * BLOCK);
             for (a, chunk) in acc.iter_mut().zip(row.chunks_exact(BLOCK)) {
-                *a += chunk.iter().map(|&v| v as u32).sum::<u32>();
+                *a += chunk.iter().map(|&v| u32::from(v.value())).sum::<u32>();
             }
         }
     }

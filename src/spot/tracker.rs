@@ -2,9 +2,11 @@
 //! around a constant-velocity prediction, with the background smoothed over frames.
 
 use super::background::{BackgroundFollower, LocalBackground};
-use super::image::{Img, Rect};
+use super::image::{Img, Pixel, Rect};
 use super::learned::ScreenModel;
-use super::{full_search, judge_tracked, measure, with_image, SpotConfig, SpotFix, SpotStatus};
+use super::{
+    full_search, judge_tracked, measure, with_image, ImageJob, SpotConfig, SpotFix, SpotStatus,
+};
 use crate::frame::Plane;
 use crate::units::PixelPoint;
 
@@ -58,10 +60,10 @@ impl Tracker {
 
     /// Locate the spot in the next plane of the run.
     pub fn process(&mut self, plane: &Plane) -> SpotFix {
-        with_image(plane, |img| self.process_image(img))
+        with_image(plane, Step(self))
     }
 
-    fn process_image(&mut self, img: &Img) -> SpotFix {
+    fn process_image<P: Pixel>(&mut self, img: &Img<P>) -> SpotFix {
         if self.size != (img.w, img.h) {
             self.reset();
             self.size = (img.w, img.h);
@@ -121,7 +123,7 @@ impl Tracker {
     }
 
     /// Look for the spot near its predicted place; `None` when it is not convincingly there.
-    fn track(&mut self, img: &Img, rect: &Rect, last: PixelPoint) -> Option<SpotFix> {
+    fn track<P: Pixel>(&mut self, img: &Img<P>, rect: &Rect, last: PixelPoint) -> Option<SpotFix> {
         let r = self.config.track_radius_px;
         let predicted = match self.previous {
             Some(p) => {
@@ -164,5 +166,16 @@ impl Tracker {
         )?;
         let fix = judge_tracked(m.fix, &self.config);
         fix.position.is_some().then_some(fix)
+    }
+}
+
+/// One call of [`Tracker::process`], as a job on the plane's own pixels.
+struct Step<'t>(&'t mut Tracker);
+
+impl ImageJob for Step<'_> {
+    type Output = SpotFix;
+
+    fn run<P: Pixel>(self, img: &Img<P>) -> SpotFix {
+        self.0.process_image(img)
     }
 }

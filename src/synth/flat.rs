@@ -91,10 +91,10 @@ mod tests {
     fn noise_free_spot_has_its_peak_at_the_centre() {
         let s = spot(21, 15, (10.0, 7.0), 100.0, 20.0, 2.0, 0.0);
         let p = render_flat_spot(&s, 0).unwrap();
-        assert_eq!(p.pixels[(7, 10)], 120);
-        assert_eq!(p.pixels[(0, 0)], 20);
+        assert_eq!(p.get(10, 7), Some(120));
+        assert_eq!(p.get(0, 0), Some(20));
         // One sigma away the Gaussian is exp(-1/2) of its peak: 20 + 60.65 rounds to 81.
-        assert_eq!(p.pixels[(7, 12)], 81);
+        assert_eq!(p.get(12, 7), Some(81));
         let bad = FlatSpot {
             sigma_px: -1.0,
             ..s

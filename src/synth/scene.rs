@@ -430,7 +430,7 @@ mod tests {
         let s = scene(400, 400);
         let (p, _) = render_scene(&s, 1).unwrap();
         let il = s.illumination;
-        let mean: f64 = p.pixels.iter().map(|&v| v as f64).sum::<f64>() / p.pixels.len() as f64;
+        let mean: f64 = p.values().map(f64::from).sum::<f64>() / p.values().len() as f64;
         let f = 1.0 - (1.0f64 - 0.175).powi(2);
         let expect = il.ambient_dn + il.paper_dn * (1.0 - 0.7 * f);
         assert!(
@@ -458,7 +458,7 @@ mod tests {
         let (p, t) = render_scene(&s, 1).unwrap();
         let c = t.spot_px.unwrap();
         assert!((c.x - (99.5 + 13.2)).abs() < 1e-9 && (c.y - (59.5 - 8.4)).abs() < 1e-9);
-        let sat = p.pixels.iter().filter(|&&v| v == 255).count();
+        let sat = p.values().filter(|&v| v == 255).count();
         assert!(sat > 5, "a 600 DN spot clips at 255: {sat} clipped pixels");
         assert_eq!(render_scene(&s, 1).unwrap().0, p);
     }

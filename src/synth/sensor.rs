@@ -52,6 +52,7 @@ impl Sensor {
     }
 
     /// Blur (if asked), add noise from `seed`, round and clip `light` (row-major, `width` x `height`).
+    /// A sensor whose white level fits in 8 bits gives an 8-bit plane, as such a camera would.
     pub(crate) fn expose(
         &self,
         mut light: Vec<f32>,
@@ -65,16 +66,29 @@ impl Sensor {
         let white = self.white as f32;
         let mut rng = SmallRng::seed_from_u64(seed);
         // `validate` keeps noise_dn finite and non-negative, so the distribution exists.
-        let pixels: Vec<u16> = match Normal::new(0.0f32, self.noise_dn as f32) {
-            Ok(normal) if self.noise_dn > 0.0 => light
-                .iter()
-                .map(|&v| quantise(v + normal.sample(&mut rng), white))
-                .collect(),
-            _ => light.iter().map(|&v| quantise(v, white)).collect(),
+        let normal = Normal::new(0.0f32, self.noise_dn as f32)
+            .ok()
+            .filter(|_| self.noise_dn > 0.0);
+        let mut read = |v: f32| match &normal {
+            Some(n) => quantise(v + n.sample(&mut rng), white),
+            None => quantise(v, white),
         };
-        let pixels = Array2::from_shape_vec((height, width), pixels)
-            .expect("buffer length is width x height by construction");
-        Plane::new(pixels, self.white)
+        if self.white <= 255 {
+            // Values are clipped to `white`, so they narrow to 8 bits exactly.
+            let pixels: Vec<u8> = light.iter().map(|&v| read(v) as u8).collect();
+            let mut plane = Plane::from_u8_vec(width, height, pixels)
+                .expect("buffer length is width x height by construction");
+            // An 8-bit sensor may clip below 255.
+            plane.white = self.white;
+            plane
+        } else {
+            let pixels: Vec<u16> = light.iter().map(|&v| read(v)).collect();
+            Plane::new(
+                Array2::from_shape_vec((height, width), pixels)
+                    .expect("buffer length is width x height by construction"),
+                self.white,
+            )
+        }
     }
 }
 
@@ -132,6 +146,7 @@ fn gaussian_blur(buf: &mut [f32], width: usize, height: usize, sigma: f64) {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::frame::Pixels;
 
     #[test]
     fn blur_preserves_total_light_away_from_edges() {
@@ -153,7 +168,13 @@ mod tests {
             white: 255,
         };
         let p = s.expose(vec![-5.0, 10.4, 10.6, 300.0], 4, 1, 1);
-        assert_eq!(p.pixels.as_slice().unwrap(), &[0, 10, 11, 255]);
+        assert_eq!(p.values().collect::<Vec<_>>(), vec![0, 10, 11, 255]);
         assert_eq!(p.white, 255);
+        assert!(matches!(p.pixels(), Pixels::Eight(_)));
+        let deep = Sensor { white: 4095, ..s };
+        let p = deep.expose(vec![-5.0, 10.4, 10.6, 5000.0], 4, 1, 1);
+        assert_eq!(p.values().collect::<Vec<_>>(), vec![0, 10, 11, 4095]);
+        assert_eq!(p.white, 4095);
+        assert!(matches!(p.pixels(), Pixels::Sixteen(_)));
     }
 }

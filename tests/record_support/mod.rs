@@ -42,7 +42,7 @@ pub fn write_sequence(dir: &Path, n: usize, fps: f64) -> Vec<f64> {
             },
         };
         let plane = render_flat_spot(&spot, i as u64 + 1).unwrap();
-        let bytes: Vec<u8> = plane.pixels.iter().map(|&v| v as u8).collect();
+        let bytes: Vec<u8> = plane.values().map(|v| v as u8).collect();
         let name = format!("img_{i:05}.png");
         image::GrayImage::from_raw(W as u32, H as u32, bytes)
             .unwrap()

@@ -20,7 +20,7 @@ pub fn render_gray(w: usize, h: usize, cx: f64, cy: f64, seed: u64) -> Vec<u8> {
         sensor: Sensor::default(),
     };
     let plane = render_flat_spot(&spot, seed).expect("valid test spot");
-    plane.pixels.iter().map(|&v| v.min(255) as u8).collect()
+    plane.values().map(|v| v.min(255) as u8).collect()
 }
 
 /// Spot centre of test frame `i` of a slow Lissajous path inside a `w`x`h` image.

@@ -170,7 +170,7 @@ pub fn detect_plane(
     origin: Option<PixelPoint>,
 ) -> Result<GridDetection, CalibError> {
     let white = plane.white.max(1) as f32;
-    let data = plane.pixels.iter().map(|&v| v as f32 / white).collect();
+    let data = plane.values().map(|v| v as f32 / white).collect();
     let gray = Gray::new(plane.width(), plane.height(), data);
     detect_gray(&gray, name, pitch_mm, origin)
 }
