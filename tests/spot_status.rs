@@ -375,3 +375,35 @@ fn the_answer_does_not_depend_on_how_the_pixels_are_stored() {
         }
     }
 }
+
+#[test]
+fn studio_range_luma_reads_as_its_widened_values() {
+    // Video luma kept as decoded (16-235) must give what the same frame widened to 0-255 up front
+    // gives: equal planes, the same one-shot answer and the same tracked answers.
+    let (w, h) = (96usize, 96usize);
+    let config = SpotConfig::default();
+    let mut kept = Tracker::new(config.clone());
+    let mut widened = Tracker::new(config.clone());
+    for f in 0..10u64 {
+        let peak = if f % 5 == 4 { 600.0 } else { 150.0 };
+        let spot = flat(pt(30.2 + 2.7 * f as f64, 47.6), peak);
+        let full = render_flat_spot(&spot, 700 + f).unwrap();
+        // Full range to studio range the way an encoder's colour conversion does it (BT.601).
+        let studio: Vec<u8> = full
+            .values()
+            .map(|v| (16.0 + v.min(255) as f64 * 219.0 / 255.0).round() as u8)
+            .collect();
+        let as_full: Vec<u8> = studio
+            .iter()
+            .map(|&s| spotlever::frame::studio_to_full(s))
+            .collect();
+        let a = Plane::from_studio_luma_vec(w, h, studio).unwrap();
+        let b = Plane::from_u8_vec(w, h, as_full).unwrap();
+        assert!(matches!(a.pixels(), Pixels::Studio(_)));
+        assert_eq!(a, b, "frame {f}");
+        assert_eq!(locate(&a, &config), locate(&b, &config), "frame {f}");
+        let (ta, tb) = (kept.process(&a), widened.process(&b));
+        assert!(ta.status.has_position(), "frame {f}: {ta:?}");
+        assert_eq!(ta, tb, "frame {f}");
+    }
+}
