@@ -6,25 +6,12 @@ mod source_support;
 
 use source_support::*;
 use spotlever::frame::{Channel, Frame, Plane};
-use spotlever::source::{open, Delivery, FfmpegSource, OpenOptions, SourceError, VideoDecoder};
+use spotlever::source::{FfmpegSource, OpenOptions, VideoDecoder};
 use spotlever::units::Seconds;
 use std::path::Path;
 
 const W: usize = 160;
 const H: usize = 120;
-
-fn frames_of(path: &Path, opts: &OpenOptions) -> (Vec<Frame>, Option<SourceError>) {
-    let mut src = open(path, opts).unwrap_or_else(|e| panic!("open {}: {e}", path.display()));
-    let mut out = Vec::new();
-    while let Some(d) = src.next_delivery() {
-        match d {
-            Ok(Delivery::Frame(f)) => out.push(f),
-            Ok(Delivery::Unreadable { origin, reason, .. }) => panic!("{origin}: {reason}"),
-            Err(e) => return (out, Some(e)),
-        }
-    }
-    (out, None)
-}
 
 fn opts(decoder: VideoDecoder) -> OpenOptions {
     OpenOptions {
@@ -188,27 +175,26 @@ fn builtin_and_ffmpeg_decode_the_baseline_clip_alike() {
     }
 }
 
-fn gop_clip(dir: &Path, n: usize, gop: u32) -> std::path::PathBuf {
+/// `n` test frames at 10 fps encoded by libx264 with a key frame every `gop` frames, plus `extra`
+/// encoder arguments.
+fn gop_clip(dir: &Path, n: usize, gop: u32, extra: &[&str]) -> std::path::PathBuf {
     write_png_frames(dir, n, W, H);
     let clip = dir.join(format!("gop{gop}.mp4"));
     let g = gop.to_string();
-    encode_pngs(
-        dir,
-        10,
-        &[
-            "-c:v",
-            "libx264",
-            "-pix_fmt",
-            "yuv420p",
-            "-g",
-            &g,
-            "-keyint_min",
-            &g,
-            "-sc_threshold",
-            "0",
-        ],
-        &clip,
-    );
+    let mut args = vec![
+        "-c:v",
+        "libx264",
+        "-pix_fmt",
+        "yuv420p",
+        "-g",
+        &g,
+        "-keyint_min",
+        &g,
+        "-sc_threshold",
+        "0",
+    ];
+    args.extend_from_slice(extra);
+    encode_pngs(dir, 10, &args, &clip);
     clip
 }
 
@@ -218,7 +204,7 @@ fn every_decodes_only_key_frames_and_keeps_the_same_frames() {
         return;
     }
     let d = tempfile::tempdir().unwrap();
-    let clip = gop_clip(d.path(), 45, 10);
+    let clip = gop_clip(d.path(), 45, 10, &[]);
     let thin = OpenOptions {
         every: Some(Seconds(1.0)),
         ..opts(VideoDecoder::Ffmpeg)
@@ -230,6 +216,43 @@ fn every_decodes_only_key_frames_and_keeps_the_same_frames() {
     );
     drop(src);
     assert_keeps_same_frames(&clip, &thin, VideoDecoder::Ffmpeg);
+}
+
+#[test]
+fn every_passes_key_frames_on_when_there_are_no_b_frames() {
+    if !ffmpeg_or_skip("every_passes_key_frames_on_when_there_are_no_b_frames") {
+        return;
+    }
+    // No B-frames (the key-frame packets go through a second container to the decoder), with
+    // timestamps starting at 0.5 s in a 1/30000 time base, so the times must survive the copy.
+    let d = tempfile::tempdir().unwrap();
+    let late = [
+        "-bf",
+        "0",
+        "-video_track_timescale",
+        "30000",
+        "-output_ts_offset",
+        "0.5",
+    ];
+    let clip = gop_clip(d.path(), 45, 10, &late);
+    assert!(!has_b_frames(&clip));
+    let thin = OpenOptions {
+        every: Some(Seconds(1.0)),
+        ..opts(VideoDecoder::Ffmpeg)
+    };
+    let src = FfmpegSource::open(&clip, &thin).unwrap();
+    assert!(src.key_frames_only());
+    drop(src);
+    assert_keeps_same_frames(&clip, &thin, VideoDecoder::Ffmpeg);
+    let (kept, _) = frames_of(&clip, &thin);
+    for f in &kept {
+        assert!(
+            (f.t.0 - f.index as f64 / 10.0).abs() < 1e-9,
+            "frame {} at {} s",
+            f.index,
+            f.t.0
+        );
+    }
 }
 
 /// Thinned frames are frames 0, 10, ... 40 of the full decode, with identical times, pictures and
@@ -257,7 +280,7 @@ fn every_falls_back_to_full_decode_when_key_frames_are_sparse() {
         return;
     }
     let d = tempfile::tempdir().unwrap();
-    let clip = gop_clip(d.path(), 45, 25);
+    let clip = gop_clip(d.path(), 45, 25, &[]);
     let thin = OpenOptions {
         every: Some(Seconds(1.0)),
         ..opts(VideoDecoder::Ffmpeg)
@@ -383,27 +406,7 @@ fn builtin_every_decodes_only_key_frames_and_keeps_the_same_frames() {
         return;
     }
     let d = tempfile::tempdir().unwrap();
-    write_png_frames(d.path(), 45, W, H);
-    let clip = d.path().join("base_g10.mp4");
-    encode_pngs(
-        d.path(),
-        10,
-        &[
-            "-c:v",
-            "libx264",
-            "-profile:v",
-            "baseline",
-            "-pix_fmt",
-            "yuv420p",
-            "-g",
-            "10",
-            "-keyint_min",
-            "10",
-            "-sc_threshold",
-            "0",
-        ],
-        &clip,
-    );
+    let clip = gop_clip(d.path(), 45, 10, &["-profile:v", "baseline"]);
     let thin = OpenOptions {
         every: Some(Seconds(1.0)),
         ..opts(VideoDecoder::Builtin)

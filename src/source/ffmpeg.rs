@@ -408,6 +408,18 @@ fn widen_pipe(out: &ChildStdout) {
     let _ = out;
 }
 
+/// Start an ffmpeg command with its stdout and stderr piped to us.
+fn spawn_ffmpeg(cmd: &mut Command, path: &Path, codec: &str) -> Result<Child, SourceError> {
+    cmd.stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .map_err(|e| SourceError::NeedsDecoder {
+            path: path.display().to_string(),
+            codec: codec.to_string(),
+            advice: format!("cannot start ffmpeg ({e}); {}", super::INSTALL_FFMPEG),
+        })
+}
+
 /// Read an ffmpeg's stderr: timing lines go to `stamps` (when given), the last few lines that look
 /// like problems to `problems`.
 fn spawn_stderr_reader(
@@ -500,22 +512,15 @@ impl FfmpegSource {
                 .arg(path);
             cmd.stdin(Stdio::null());
         } else if plan.is_some() {
-            let mut d = Command::new("ffmpeg")
-                .args(["-hide_banner", "-nostdin", "-nostats", "-loglevel", "error"])
+            let mut d = Command::new("ffmpeg");
+            d.args(["-hide_banner", "-nostdin", "-nostats", "-loglevel", "error"])
                 .args(["-discard", "nokey", "-noautorotate", "-i"])
                 .arg(path)
                 .args([
                     "-map", "0:v:0", "-c", "copy", "-copyts", "-f", "nut", "pipe:1",
                 ])
-                .stdin(Stdio::null())
-                .stdout(Stdio::piped())
-                .stderr(Stdio::piped())
-                .spawn()
-                .map_err(|e| SourceError::NeedsDecoder {
-                    path: path.display().to_string(),
-                    codec: p.codec.clone(),
-                    advice: format!("cannot start ffmpeg ({e}); {}", super::INSTALL_FFMPEG),
-                })?;
+                .stdin(Stdio::null());
+            let mut d = spawn_ffmpeg(&mut d, path, &p.codec)?;
             let packets = d.stdout.take();
             if let Some(err) = d.stderr.take() {
                 spawn_stderr_reader(err, None, problems.clone());
@@ -546,15 +551,7 @@ impl FfmpegSource {
             pix_fmt,
             "pipe:1",
         ]);
-        let mut child = cmd
-            .stdout(Stdio::piped())
-            .stderr(Stdio::piped())
-            .spawn()
-            .map_err(|e| SourceError::NeedsDecoder {
-                path: path.display().to_string(),
-                codec: p.codec.clone(),
-                advice: format!("cannot start ffmpeg ({e}); {}", super::INSTALL_FFMPEG),
-            })?;
+        let mut child = spawn_ffmpeg(&mut cmd, path, &p.codec)?;
         drop(cmd);
         let frame_bytes = p.width * p.height * transfer.bytes_per_pixel();
         let (spare_tx, spare_rx) = channel();

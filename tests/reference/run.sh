@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # spotlever against reference libraries, accuracy and speed, in one run.
 #
-#   bash tests/reference/run.sh            # everything (about 10 minutes on 2 cores)
+#   bash tests/reference/run.sh            # everything (three to four minutes on 2 cores)
 #   SPOTLEVER_REF_SKIP_CLIP=1 bash ...     # without the 1080p clip side-by-side
 #   SPOTLEVER_REF_FRAMES=1200 bash ...     # a shorter clip
 #

@@ -114,6 +114,29 @@ pub fn track_positions(planes: &[&spotlever::frame::Plane]) -> Vec<(f64, f64)> {
         .collect()
 }
 
+/// Every frame `opts` gives from `path`, and the error that ended the reading early, if any; an
+/// unreadable frame fails the test.
+pub fn frames_of(
+    path: &Path,
+    opts: &spotlever::source::OpenOptions,
+) -> (
+    Vec<spotlever::frame::Frame>,
+    Option<spotlever::source::SourceError>,
+) {
+    use spotlever::source::Delivery;
+    let mut src = spotlever::source::open(path, opts)
+        .unwrap_or_else(|e| panic!("open {}: {e}", path.display()));
+    let mut out = Vec::new();
+    while let Some(d) = src.next_delivery() {
+        match d {
+            Ok(Delivery::Frame(f)) => out.push(f),
+            Ok(Delivery::Unreadable { origin, reason, .. }) => panic!("{origin}: {reason}"),
+            Err(e) => return (out, Some(e)),
+        }
+    }
+    (out, None)
+}
+
 pub fn committed_clip() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/baseline_160x120.mp4")
 }
