@@ -164,6 +164,36 @@ fn truncated_video_keeps_rows_and_says_where_it_stopped() {
 }
 
 #[test]
+fn truncated_video_read_by_key_frames_only_says_where_it_stopped() {
+    if !ffmpeg_or_skip("truncated_video_read_by_key_frames_only_says_where_it_stopped") {
+        return;
+    }
+    let d = tempfile::tempdir().unwrap();
+    let clip = d.path().join("cut.mp4");
+    let whole = std::fs::read(committed_clip()).unwrap();
+    std::fs::write(&clip, &whole[..whole.len() * 6 / 10]).unwrap();
+    let out = d.path().join("t.csv");
+    // Key frames at frames 0, 16 and 29 of 30 at 10 fps: one every 1.6 s interval, so only key
+    // frames are decoded, and those never reach the missing tail; the file's index must tell.
+    let o = track(
+        &[
+            &s(&clip),
+            "--decoder",
+            "ffmpeg",
+            "--every",
+            "1.6",
+            "--out",
+            &s(&out),
+        ],
+        None,
+    );
+    fails_with(&o, &["cut.mp4", "truncated", "index lists 30 frames"]);
+    assert!(stderr(&o).contains("key frames only"), "{}", stderr(&o));
+    let rows = read_track(&out).unwrap().rows;
+    assert!(!rows.is_empty() && rows.len() <= 2, "{} rows", rows.len());
+}
+
+#[test]
 fn without_ffmpeg_the_builtin_reader_is_used_and_refuses_what_it_cannot_decode() {
     let d = tempfile::tempdir().unwrap();
     let out = s(&d.path().join("t.csv"));

@@ -227,6 +227,9 @@ struct KeyFramePlan {
     /// Whether packets arrive out of presentation order (B-frames): their key frames are then
     /// decoded in place, since passing them on through another container loses their exact times.
     reorders: bool,
+    /// Packets in the file, counted while planning (a short count against the container's frame
+    /// count means the file ends early).
+    packets: u64,
 }
 
 /// Plan a key-frame-only decode; `None` when some interval's first frame is not a key frame (or
@@ -274,8 +277,10 @@ fn plan_key_frames(
         }
         index += 1;
     };
+    let mut packets = 0u64;
     for line in BufReader::new(out).lines() {
         let Ok(line) = line else { break };
+        packets += 1;
         let mut cells = line.split(',');
         let (Some(pts), Some(dts), Some(flags)) = (cells.next(), cells.next(), cells.next()) else {
             continue;
@@ -306,7 +311,11 @@ fn plan_key_frames(
     }
     let _ = child.kill();
     let _ = child.wait();
-    Ok(ok.then_some(KeyFramePlan { kept, reorders }))
+    Ok(ok.then_some(KeyFramePlan {
+        kept,
+        reorders,
+        packets,
+    }))
 }
 
 enum ErrMsg {
@@ -454,6 +463,8 @@ pub struct FfmpegSource {
     child: Option<Child>,
     /// With key frames only: the ffmpeg that passes the key-frame packets to `child`.
     demuxer: Option<Child>,
+    /// Why the file ends before its index says it does, when planning found out.
+    ends_early: Option<String>,
     pictures: Option<Receiver<Piece>>,
     spare: Sender<Vec<u8>>,
     pipe_reader: Option<JoinHandle<()>>,
@@ -490,12 +501,22 @@ impl FfmpegSource {
             });
         }
         let p = probe(path)?;
-        let (plan, reorders) = match opts.every {
+        let (plan, reorders, ends_early) = match opts.every {
             Some(e) => match plan_key_frames(path, &p, e)? {
-                Some(k) => (Some(k.kept), k.reorders),
-                None => (None, false),
+                Some(k) => {
+                    // Decoding only key frames never reads the missing end of a cut-off file, so
+                    // the index is what tells.
+                    let short = p.nb_frames.filter(|&n| k.packets < n).map(|n| {
+                        format!(
+                            "the file's index lists {n} frames but only {} are in the file",
+                            k.packets
+                        )
+                    });
+                    (Some(k.kept), k.reorders, short)
+                }
+                None => (None, false, None),
             },
-            None => (None, false),
+            None => (None, false, None),
         };
         let transfer = Transfer::choose(&p, opts.channel);
         let (filters, pix_fmt) = transfer.ffmpeg_output();
@@ -599,6 +620,7 @@ impl FfmpegSource {
             probe: p,
             child: Some(child),
             demuxer,
+            ends_early,
             pictures: Some(pictures_rx),
             spare: spare_tx,
             pipe_reader,
@@ -729,6 +751,7 @@ impl FfmpegSource {
             .unwrap_or_default();
         let failed = status.is_some_and(|s| !s.success());
         let missing_planned = self.plan.as_ref().is_some_and(|p| !p.is_empty());
+        let read_error = read_error.or_else(|| self.ends_early.take());
         if read_error.is_none() && !failed && problems.is_empty() && !missing_planned {
             return None;
         }
