@@ -1,7 +1,6 @@
 //! Speed of the spot finder on 1920 x 1080 8-bit frames rendered by the scene synthesizer: a full-frame
 //! search (`locate`), one tracking step of `Tracker::process` (each also on the same frames stored as
-//! 16-bit values, `.../u16`), and the rendering itself; and the pixel conversion a decoded frame goes
-//! through on its way to a plane (`plane_conversion`).
+//! 16-bit values, `.../u16`), and the rendering itself.
 //!
 //! Run with `cargo bench --bench spot`.
 //!
@@ -9,9 +8,8 @@
 //! CPU time of the benchmarking thread (`cpu/...`), which is what one core spends on the work even
 //! when other processes share the machine.
 
-use criterion::{criterion_group, criterion_main, BatchSize, Criterion};
+use criterion::{criterion_group, criterion_main, Criterion};
 use spotlever::frame::Plane;
-use spotlever::source::expand_limited_luma_in_place;
 use spotlever::spot::{locate, SpotConfig, SpotStatus, Tracker};
 use spotlever::synth::{
     render_scene, CameraView, Illumination, LaserSpot, RuledScreen, Scene, Sensor, Speckle,
@@ -96,25 +94,6 @@ fn spot_steps<M: criterion::measurement::Measurement + 'static>(
     }
 }
 
-/// Studio-to-full range expansion of one 1920 x 1080 luma frame in place, under any criterion
-/// measurement.
-fn conversion_steps<M: criterion::measurement::Measurement + 'static>(
-    c: &mut Criterion<M>,
-    prefix: &str,
-) {
-    // Every byte value, in a pattern that does not repeat with the vector width.
-    let frame: Vec<u8> = (0..W * H).map(|i| ((i * 7 + i / 13) % 256) as u8).collect();
-    let mut g = c.benchmark_group(format!("{prefix}plane_conversion"));
-    g.bench_function("expand_limited_luma_in_place_1920x1080", |bench| {
-        bench.iter_batched_ref(
-            || frame.clone(),
-            |bytes| expand_limited_luma_in_place(black_box(bytes)),
-            BatchSize::LargeInput,
-        )
-    });
-    g.finish();
-}
-
 /// Rendering one full scene frame, under any criterion measurement.
 fn render_step<M: criterion::measurement::Measurement + 'static>(
     c: &mut Criterion<M>,
@@ -131,7 +110,6 @@ fn render_step<M: criterion::measurement::Measurement + 'static>(
 
 fn bench_spot(c: &mut Criterion) {
     spot_steps(c, "");
-    conversion_steps(c, "");
     render_step(c, "");
 }
 
@@ -205,7 +183,6 @@ mod cpu {
 #[cfg(unix)]
 fn bench_spot_cpu(c: &mut Criterion<cpu::ThreadCpuTime>) {
     spot_steps(c, "cpu/");
-    conversion_steps(c, "cpu/");
     render_step(c, "cpu/");
 }
 

@@ -461,8 +461,10 @@ pub struct FfmpegSource {
     path: PathBuf,
     probe: Probe,
     child: Option<Child>,
-    /// With key frames only: the ffmpeg that passes the key-frame packets to `child`.
+    /// With key frames only: the ffmpeg that passes the key-frame packets to `child`, and the
+    /// thread reading its stderr.
     demuxer: Option<Child>,
+    demuxer_reader: Option<JoinHandle<()>>,
     /// Why the file ends before its index says it does, when planning found out.
     ends_early: Option<String>,
     pictures: Option<Receiver<Piece>>,
@@ -526,6 +528,7 @@ impl FfmpegSource {
         // to skip the other frames itself, one decoder works through them one at a time. Streams
         // with B-frames take the slower way: their times do not survive the copy.
         let mut demuxer = None;
+        let mut demuxer_reader = None;
         let mut cmd = Command::new("ffmpeg");
         cmd.args(["-hide_banner", "-nostdin", "-nostats", "-loglevel", "info"]);
         if plan.is_some() && reorders {
@@ -543,9 +546,10 @@ impl FfmpegSource {
                 .stdin(Stdio::null());
             let mut d = spawn_ffmpeg(&mut d, path, &p.codec)?;
             let packets = d.stdout.take();
-            if let Some(err) = d.stderr.take() {
-                spawn_stderr_reader(err, None, problems.clone());
-            }
+            demuxer_reader = d
+                .stderr
+                .take()
+                .map(|err| spawn_stderr_reader(err, None, problems.clone()));
             demuxer = Some(d);
             cmd.args(["-skip_frame", "nokey", "-f", "nut", "-i", "pipe:0"]);
             cmd.stdin(packets.map_or_else(Stdio::null, Stdio::from));
@@ -620,6 +624,7 @@ impl FfmpegSource {
             probe: p,
             child: Some(child),
             demuxer,
+            demuxer_reader,
             ends_early,
             pictures: Some(pictures_rx),
             spare: spare_tx,
@@ -677,16 +682,6 @@ impl FfmpegSource {
         }
     }
 
-    fn t_of(&self, pts: i64) -> Seconds {
-        let start_s = self.probe.start_pts as f64 * self.probe.time_base.0 as f64
-            / self.probe.time_base.1 as f64;
-        if self.time_base == self.probe.time_base {
-            seconds(pts, self.probe.start_pts, self.time_base)
-        } else {
-            Seconds(pts as f64 * self.time_base.0 as f64 / self.time_base.1 as f64 - start_s)
-        }
-    }
-
     /// A timestamp of the decoder's output in the ticks of the file's own time base (the key-frame
     /// path passes packets through another container, whose time base may differ).
     fn probe_ticks(&self, pts: i64) -> i64 {
@@ -732,7 +727,10 @@ impl FfmpegSource {
         if let Some(r) = self.pipe_reader.take() {
             let _ = r.join();
         }
-        if let Some(r) = self.reader.take() {
+        for r in [self.reader.take(), self.demuxer_reader.take()]
+            .into_iter()
+            .flatten()
+        {
             let _ = r.join();
         }
         match (status, demuxed) {
@@ -804,8 +802,8 @@ impl FrameSource for FfmpegSource {
                     "a frame arrived without its timestamp from the showinfo filter".into(),
                 ));
             };
-            let t = self.t_of(pts);
             let ticks = self.probe_ticks(pts);
+            let t = seconds(ticks, self.probe.start_pts, self.probe.time_base);
             let index = match self.plan.as_mut() {
                 None => {
                     let i = self.decoded;

@@ -25,7 +25,6 @@ mod times;
 pub use ffmpeg::{ffmpeg_available, FfmpegSource};
 pub use h264::BuiltinH264Source;
 pub use natural::natural_cmp;
-pub use pixels::expand_limited_luma_in_place;
 pub use sequence::ImageSequence;
 pub use thin::{keyframes_suffice, Thinner};
 pub use times::read_times;

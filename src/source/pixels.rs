@@ -1,7 +1,7 @@
 //! Turning decoded pixels (still images, raw RGB or gray from a decoder, YUV planes) into a
 //! [`Plane`] of the chosen [`Channel`].
 
-use crate::frame::{studio_to_full, Channel, Plane};
+use crate::frame::{Channel, Plane};
 use image::DynamicImage;
 use ndarray::Array2;
 
@@ -58,58 +58,26 @@ pub fn plane_from_rgb24(width: usize, height: usize, rgb: &[u8], channel: Channe
     eight_bit_plane(width, height, v)
 }
 
-/// Expand limited-range (16–235) luma samples to full range 0–255 in place, as a decoder's gray
-/// output does (ITU-R BT.601 studio range): `round((y - 16) * 255 / 219)`, clamped to 0–255.
-///
-/// The loop is written for the compiler's vectoriser (`expand_limited_luma_lanes` below); on x86-64
-/// processors with AVX2 the same loop is run as compiled for AVX2, which handles twice as many bytes
-/// per instruction as the SSE2 baseline.
-pub fn expand_limited_luma_in_place(bytes: &mut [u8]) {
-    #[cfg(target_arch = "x86_64")]
-    if std::arch::is_x86_feature_detected!("avx2") {
-        // SAFETY: the running processor supports AVX2, as checked just above.
-        unsafe { expand_limited_luma_avx2(bytes) };
-        return;
-    }
-    expand_limited_luma_lanes(bytes);
-}
-
-/// [`expand_limited_luma_lanes`] compiled with AVX2 enabled. Only call it on a processor with AVX2.
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx2")]
-unsafe fn expand_limited_luma_avx2(bytes: &mut [u8]) {
-    expand_limited_luma_lanes(bytes);
-}
-
-/// The studio-to-full range expansion ([`studio_to_full`]) as a loop the vectoriser turns into
-/// 16-bit lane arithmetic.
-#[inline(always)]
-fn expand_limited_luma_lanes(bytes: &mut [u8]) {
-    for b in bytes.iter_mut() {
-        *b = studio_to_full(*b);
-    }
-}
-
-/// A full-range 8-bit plane from a limited-range luma plane with row stride `stride`. Rows the buffer
-/// does not reach are black.
+/// A plane of limited-range luma with row stride `stride`, kept as decoded (it reads as full range,
+/// see [`crate::frame::Pixels::Studio`]). Rows the buffer does not reach are black.
 pub fn plane_from_limited_luma(width: usize, height: usize, y: &[u8], stride: usize) -> Plane {
     let mut v = Vec::with_capacity(width * height);
     for row in 0..height {
         let start = row * stride;
         match y.get(start..start + width) {
             Some(r) => v.extend_from_slice(r),
-            // Black after expansion: limited-range black is 16.
+            // Limited-range black is 16.
             None => v.extend(std::iter::repeat_n(16, width)),
         }
     }
-    expand_limited_luma_in_place(&mut v);
-    eight_bit_plane(width, height, v)
+    Plane::from_studio_luma_vec(width, height, v)
+        .unwrap_or_else(|_| Plane::from_u8_array(Array2::zeros((height, width))))
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::frame::Pixels;
+    use crate::frame::{studio_to_full, Pixels};
 
     /// The studio-to-full range mapping of one sample, written as the definition reads.
     fn expand_limited_luma(y: u8) -> u16 {
@@ -125,9 +93,11 @@ mod tests {
         assert_eq!(expand_limited_luma(0), 0);
         assert_eq!(expand_limited_luma(255), 255);
         assert_eq!(expand_limited_luma(126), 128);
-        let mut b = [16u8, 235, 0, 255, 126];
-        expand_limited_luma_in_place(&mut b);
-        assert_eq!(b, [0, 255, 0, 255, 128]);
+        let widened: Vec<u8> = [16u8, 235, 0, 255, 126]
+            .iter()
+            .map(|&y| studio_to_full(y))
+            .collect();
+        assert_eq!(widened, [0, 255, 0, 255, 128]);
     }
 
     #[test]
@@ -140,28 +110,22 @@ mod tests {
     }
 
     #[test]
-    fn in_place_expansion_matches_the_sample_formula_for_every_byte() {
-        // Long enough that the vectorised body runs, with a ragged tail after it; both the
-        // dispatching entry and the portable loop itself.
-        let input: Vec<u8> = (0..=255u8).cycle().take(256 * 3 + 7).collect();
-        let expected: Vec<u16> = input.iter().map(|&y| expand_limited_luma(y)).collect();
-        let mut dispatched = input.clone();
-        expand_limited_luma_in_place(&mut dispatched);
-        let mut portable = input.clone();
-        expand_limited_luma_lanes(&mut portable);
-        for (name, out) in [("dispatched", &dispatched), ("portable", &portable)] {
-            for (i, (&got, &want)) in out.iter().zip(&expected).enumerate() {
-                assert_eq!(u16::from(got), want, "{name}: input {}", i % 256);
-            }
+    fn studio_widening_matches_the_sample_formula_for_every_byte() {
+        for y in 0..=255u8 {
+            assert_eq!(
+                u16::from(studio_to_full(y)),
+                expand_limited_luma(y),
+                "input {y}"
+            );
         }
     }
 
     #[test]
-    fn limited_luma_plane_follows_the_stride_and_stays_eight_bit() {
+    fn limited_luma_plane_follows_the_stride_and_stays_as_decoded() {
         // Two rows of two samples in rows of stride 3 (the third byte is padding); one row short.
         let y = [16u8, 235, 99, 126, 20, 99];
         let p = plane_from_limited_luma(2, 3, &y, 3);
-        assert!(matches!(p.pixels(), Pixels::Eight(_)));
+        assert!(matches!(p.pixels(), Pixels::Studio(_)));
         assert_eq!(p.white, 255);
         assert_eq!(
             p.values().collect::<Vec<_>>(),
