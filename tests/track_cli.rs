@@ -134,13 +134,19 @@ fn bad_inputs_fail_clearly() {
     );
 }
 
+/// The committed clip cut to its first 60 % as `dir/cut.mp4`. The clip has its index first
+/// (faststart), so cutting the tail loses only the last frames.
+fn cut_clip(dir: &Path) -> std::path::PathBuf {
+    let clip = dir.join("cut.mp4");
+    let whole = std::fs::read(committed_clip()).unwrap();
+    std::fs::write(&clip, &whole[..whole.len() * 6 / 10]).unwrap();
+    clip
+}
+
 #[test]
 fn truncated_video_keeps_rows_and_says_where_it_stopped() {
     let d = tempfile::tempdir().unwrap();
-    let clip = d.path().join("cut.mp4");
-    let whole = std::fs::read(committed_clip()).unwrap();
-    // The clip has its index first (faststart), so cutting the tail loses only the last frames.
-    std::fs::write(&clip, &whole[..whole.len() * 6 / 10]).unwrap();
+    let clip = cut_clip(d.path());
     let out = d.path().join("t.csv");
     let mut runs = vec![("builtin", None)];
     if ffmpeg_or_skip("truncated_video_keeps_rows_and_says_where_it_stopped (ffmpeg part)") {
@@ -169,9 +175,7 @@ fn truncated_video_read_by_key_frames_only_says_where_it_stopped() {
         return;
     }
     let d = tempfile::tempdir().unwrap();
-    let clip = d.path().join("cut.mp4");
-    let whole = std::fs::read(committed_clip()).unwrap();
-    std::fs::write(&clip, &whole[..whole.len() * 6 / 10]).unwrap();
+    let clip = cut_clip(d.path());
     let out = d.path().join("t.csv");
     // Key frames at frames 0, 16 and 29 of 30 at 10 fps: one every 1.6 s interval, so only key
     // frames are decoded, and those never reach the missing tail; the file's index must tell.
