@@ -5,11 +5,14 @@
 //! libx264's default B-frames (key frames decoded one at a time by a decoder that skips the rest)
 //! and one without (key-frame packets passed on to a decoder whose threads work side by side). On
 //! clips this short the fixed start-up (ffprobe twice, one or two ffmpeg processes: about 0.5 s)
-//! takes most of the key-frame time; over a long recording the ratio approaches the bit share.
+//! takes most of the key-frame time; over a long recording the ratio approaches the bit share. The
+//! clip without B-frames is also read cut to a 1920x160 band inside ffmpeg (`track --roi`), which
+//! shows what moving whole pictures through the pipe costs.
 //!
 //! Run: `cargo bench --bench decode`. Skips (with a message) when ffmpeg is not on PATH.
 
 use criterion::{criterion_group, criterion_main, Criterion};
+use spotlever::frame::Roi;
 use spotlever::source::{ffmpeg_available, open, Delivery, OpenOptions, VideoDecoder};
 use spotlever::units::Seconds;
 use std::path::{Path, PathBuf};
@@ -17,6 +20,13 @@ use std::process::Command;
 use std::time::Duration;
 
 const SECONDS: u32 = 6;
+
+const BAND: Roi = Roi {
+    x: 0,
+    y: 460,
+    width: 1920,
+    height: 160,
+};
 
 fn make_clip(dir: &Path, b_frames: bool) -> PathBuf {
     let clip = dir.join(format!("bench_1080p30_g30_b{}.mp4", u8::from(b_frames)));
@@ -81,9 +91,10 @@ fn key_share(clip: &Path) -> f64 {
     key / all
 }
 
-fn drain(clip: &Path, every: Option<Seconds>) -> u64 {
+fn drain(clip: &Path, every: Option<Seconds>, crop: Option<Roi>) -> u64 {
     let opts = OpenOptions {
         every,
+        crop,
         decoder: VideoDecoder::Ffmpeg,
         ..OpenOptions::default()
     };
@@ -111,17 +122,23 @@ fn bench(c: &mut Criterion) {
             bytes as f64 * 8.0 / SECONDS as f64 / 1e6,
             100.0 * key_share(&clip)
         );
-        assert_eq!(drain(&clip, Some(Seconds(1.0))), SECONDS as u64);
+        assert_eq!(drain(&clip, Some(Seconds(1.0)), None), SECONDS as u64);
         let mut g = c.benchmark_group(format!("decode_1080p30_6s_{label}"));
         g.sample_size(10)
             .measurement_time(Duration::from_secs(20))
             .warm_up_time(Duration::from_secs(2));
         g.bench_function("every_frame_ffmpeg_threads", |b| {
-            b.iter(|| drain(&clip, None))
+            b.iter(|| drain(&clip, None, None))
         });
         g.bench_function("every_1s_key_frames_only", |b| {
-            b.iter(|| drain(&clip, Some(Seconds(1.0))))
+            b.iter(|| drain(&clip, Some(Seconds(1.0)), None))
         });
+        if !b_frames {
+            // What crosses the pipe for a band along the scale (`track --roi`), a sixth of a picture.
+            g.bench_function("every_frame_band_1920x160", |b| {
+                b.iter(|| drain(&clip, None, Some(BAND)))
+            });
+        }
         g.finish();
     }
 }

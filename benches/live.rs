@@ -184,6 +184,7 @@ fn memory_over_long_replay() {
                 width: w,
                 height: h,
                 expected_frames: Some(n),
+                crop: None,
             },
             planes: Arc::clone(&p),
             n,

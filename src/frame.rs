@@ -6,10 +6,39 @@
 //! images keep 16 bits. Every reader sees values as `u16` whatever the storage; `white` is the value a
 //! clipped pixel has (255 for 8-bit data).
 
-use crate::units::Seconds;
+use crate::units::{PixelPoint, Seconds};
 use ndarray::{Array2, Ix2};
 use serde::{Deserialize, Serialize};
 use std::borrow::Cow;
+
+/// A rectangle of the image, in whole pixels: a region of interest, or the part of each picture a
+/// source delivers.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub struct Roi {
+    pub x: usize,
+    pub y: usize,
+    pub width: usize,
+    pub height: usize,
+}
+
+impl Roi {
+    /// Whether the rectangle is non-empty and lies wholly inside a `width` x `height` image.
+    /// (The finder itself quietly cuts an ROI to the image; callers use this to refuse bad input.)
+    pub fn fits_in(&self, width: usize, height: usize) -> bool {
+        self.width > 0
+            && self.height > 0
+            && self.x.checked_add(self.width).is_some_and(|e| e <= width)
+            && self.y.checked_add(self.height).is_some_and(|e| e <= height)
+    }
+
+    /// A point of a plane cut to this rectangle, in the coordinates of the whole picture.
+    pub fn to_picture(&self, p: PixelPoint) -> PixelPoint {
+        PixelPoint {
+            x: p.x + self.x as f64,
+            y: p.y + self.y as f64,
+        }
+    }
+}
 
 /// Which colour channel becomes the plane. A red laser is seen best in `Red`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize, clap::ValueEnum)]

@@ -92,6 +92,7 @@ fn a_stopped_source_is_retried_and_the_gap_marked() {
                 width: 64,
                 height: 48,
                 expected_frames: None,
+                crop: None,
             },
             plane: plane.clone(),
             clock,

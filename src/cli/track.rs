@@ -32,7 +32,9 @@ pub struct TrackArgs {
     /// Colour channel to track in (a red laser shows best in red).
     #[arg(long, value_enum, default_value_t = Channel::Luma)]
     pub channel: Channel,
-    /// Only look inside this rectangle of the image, in pixels.
+    /// Only look inside this rectangle of the image, in pixels. Videos read by ffmpeg are cut to it
+    /// before the pictures reach spotlever, which is faster (a band along the scale is enough for an
+    /// optical lever); positions are still whole-picture pixels.
     #[arg(long, value_name = "X,Y,W,H", value_parser = parse_roi)]
     pub roi: Option<Roi>,
     /// Which video decoder to use.
@@ -97,12 +99,16 @@ pub fn run(args: TrackArgs) -> anyhow::Result<()> {
         fps: args.fps,
         times: args.times.clone(),
         decoder: args.decoder,
+        crop: args.roi,
     };
     let mut source = open(&args.input, &opts)?;
     let info = source.info().clone();
     if let Some(roi) = &args.roi {
         check_roi(roi, &info)?;
     }
+    // Where the source already cut the pictures to the ROI (ffmpeg does, so fewer bytes cross the
+    // pipe), the finder uses all of each plane; otherwise it looks inside the ROI itself.
+    let finder_roi = if info.crop.is_some() { None } else { args.roi };
     eprintln!("reading {}", info.description);
     let calib = match &args.calib {
         None => None,
@@ -116,7 +122,7 @@ pub fn run(args: TrackArgs) -> anyhow::Result<()> {
         }
     };
     let config = SpotConfig {
-        roi: args.roi,
+        roi: finder_roi,
         ..SpotConfig::default()
     };
     let mut tracker = Tracker::new(config);

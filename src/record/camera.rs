@@ -284,6 +284,7 @@ mod backend {
                 width: f.width() as usize,
                 height: f.height() as usize,
                 expected_frames: None,
+                crop: None,
             },
             cam,
             channel: req.channel,

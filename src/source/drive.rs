@@ -73,6 +73,8 @@ pub fn run_tracker<E: From<SourceError>>(
 ) -> Result<RunSummary, E> {
     let start = Instant::now();
     let mut s = RunSummary::default();
+    // A source that cuts its pictures down: positions are given in the whole picture's pixels.
+    let crop = source.info().crop;
     while let Some(d) = source.next_delivery() {
         let d = match d {
             Ok(d) => d,
@@ -84,7 +86,10 @@ pub fn run_tracker<E: From<SourceError>>(
         };
         let (row, frame) = match &d {
             Delivery::Frame(f) => {
-                let fix = tracker.process(&f.plane);
+                let mut fix = tracker.process(&f.plane);
+                if let Some(r) = crop {
+                    fix.position = fix.position.map(|p| r.to_picture(p));
+                }
                 (
                     TrackRow {
                         frame: f.index,

@@ -16,7 +16,7 @@
 
 use super::thin::Thinner;
 use super::{Delivery, FrameSource, OpenOptions, SourceError, SourceInfo};
-use crate::frame::{Channel, Frame, Plane, PlaneSizeError};
+use crate::frame::{Channel, Frame, Plane, PlaneSizeError, Roi};
 use crate::units::Seconds;
 use std::cmp::Reverse;
 use std::collections::{BinaryHeap, VecDeque};
@@ -113,14 +113,23 @@ impl Transfer {
         }
     }
 
-    /// The filter chain and output pixel format given to ffmpeg.
-    fn ffmpeg_output(self) -> (&'static str, &'static str) {
-        // showinfo prints each frame's exact timestamp; its checksums are not needed.
-        match self {
+    /// The filter chain and output pixel format given to ffmpeg, cutting each picture to `crop`.
+    fn ffmpeg_output(self, crop: Option<Roi>) -> (String, &'static str) {
+        // showinfo prints each frame's exact timestamp; its checksums are not needed. The crop comes
+        // after the picture is in its output format, so it is exact to the pixel even where chroma is
+        // subsampled (ffmpeg's crop only moves plane pointers; the muxer copies the rectangle out).
+        let (chain, pix_fmt) = match self {
             Transfer::LumaPlane { .. } => ("showinfo=checksum=0,extractplanes=y", "gray"),
+            Transfer::Gray if crop.is_some() => ("showinfo=checksum=0,format=gray", "gray"),
             Transfer::Gray => ("showinfo=checksum=0", "gray"),
+            Transfer::Rgb if crop.is_some() => ("showinfo=checksum=0,format=rgb24", "rgb24"),
             Transfer::Rgb => ("showinfo=checksum=0", "rgb24"),
-        }
+        };
+        let chain = match crop {
+            Some(r) => format!("{chain},crop={}:{}:{}:{}", r.width, r.height, r.x, r.y),
+            None => chain.to_string(),
+        };
+        (chain, pix_fmt)
     }
 
     fn bytes_per_pixel(self) -> usize {
@@ -521,7 +530,9 @@ impl FfmpegSource {
             None => (None, false, None),
         };
         let transfer = Transfer::choose(&p, opts.channel);
-        let (filters, pix_fmt) = transfer.ffmpeg_output();
+        // A rectangle that does not fit is not cut; the caller sees `info.crop == None`.
+        let crop = opts.crop.filter(|r| r.fits_in(p.width, p.height));
+        let (filters, pix_fmt) = transfer.ffmpeg_output(crop);
         let problems = Arc::new(Mutex::new(VecDeque::new()));
         // Key frames only: a first ffmpeg passes just the key-frame packets on (no decoding), so the
         // decoder sees an all-intra stream and its frame threads decode pictures side by side; told
@@ -567,7 +578,7 @@ impl FfmpegSource {
             "-sn",
             "-dn",
             "-vf",
-            filters,
+            &filters,
             "-vsync",
             "passthrough",
             "-f",
@@ -578,7 +589,8 @@ impl FfmpegSource {
         ]);
         let mut child = spawn_ffmpeg(&mut cmd, path, &p.codec)?;
         drop(cmd);
-        let frame_bytes = p.width * p.height * transfer.bytes_per_pixel();
+        let (plane_w, plane_h) = crop.map_or((p.width, p.height), |r| (r.width, r.height));
+        let frame_bytes = plane_w * plane_h * transfer.bytes_per_pixel();
         let (spare_tx, spare_rx) = channel();
         let (pictures_tx, pictures_rx) = sync_channel(QUEUED_PICTURES);
         let pipe_reader = child.stdout.take().map(|out| {
@@ -603,7 +615,7 @@ impl FfmpegSource {
             .unwrap_or_default();
         let info = SourceInfo {
             description: format!(
-                "{name}: {} {}x{}, decoded by ffmpeg{}",
+                "{name}: {} {}x{}, decoded by ffmpeg{}{}",
                 p.codec,
                 p.width,
                 p.height,
@@ -611,11 +623,16 @@ impl FfmpegSource {
                     ", key frames only"
                 } else {
                     ""
-                }
+                },
+                crop.map_or(String::new(), |r| format!(
+                    ", only the {}x{} rectangle at ({}, {}) read",
+                    r.width, r.height, r.x, r.y
+                ))
             ),
             width: p.width,
             height: p.height,
             expected_frames: expected,
+            crop,
         };
         Ok(Self {
             info,
@@ -696,7 +713,10 @@ impl FfmpegSource {
     }
 
     fn plane(&self, bytes: Vec<u8>) -> Result<Plane, PlaneSizeError> {
-        let (w, h) = (self.info.width, self.info.height);
+        let (w, h) = self
+            .info
+            .crop
+            .map_or((self.info.width, self.info.height), |r| (r.width, r.height));
         match self.transfer {
             Transfer::LumaPlane { widen: true } => Plane::from_studio_luma_vec(w, h, bytes),
             Transfer::LumaPlane { widen: false } => Plane::from_u8_vec(w, h, bytes),

@@ -245,6 +245,7 @@ impl BuiltinH264Source {
                 width: w,
                 height: h,
                 expected_frames: expected,
+                crop: None,
             },
             path: path.to_path_buf(),
             reader,

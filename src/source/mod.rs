@@ -7,7 +7,7 @@
 
 pub mod replay;
 
-use crate::frame::{Channel, Frame};
+use crate::frame::{Channel, Frame, Roi};
 use crate::units::Seconds;
 use std::path::{Path, PathBuf};
 use thiserror::Error;
@@ -55,6 +55,10 @@ pub struct SourceInfo {
     pub height: usize,
     /// Number of frames it expects to deliver (after thinning), when known: drives the progress bar.
     pub expected_frames: Option<u64>,
+    /// When the source delivers only this rectangle of each picture (see [`OpenOptions::crop`]): its
+    /// planes are the rectangle's size, and a pixel (x, y) of a plane is (x + crop.x, y + crop.y) of
+    /// the `width` x `height` picture. `None`: planes are whole pictures.
+    pub crop: Option<Roi>,
 }
 
 /// A fatal problem with a source. Every variant says where and what to do.
@@ -143,6 +147,10 @@ pub struct OpenOptions {
     /// Times file of an image sequence (`file,t_s`), instead of the folder's `times.csv`.
     pub times: Option<PathBuf>,
     pub decoder: VideoDecoder,
+    /// Deliver only this rectangle of each picture, when the source can cut it out before the pixels
+    /// reach this process (the `ffmpeg` source does; the others ignore it and deliver whole pictures).
+    /// [`SourceInfo::crop`] tells which happened.
+    pub crop: Option<Roi>,
 }
 
 /// File extensions read as still images.

@@ -167,6 +167,7 @@ impl ImageSequence {
             width: w as usize,
             height: h as usize,
             expected_frames: Some(files.len() as u64),
+            crop: None,
         };
         Ok(Self {
             info,

@@ -37,6 +37,7 @@ mod tracker;
 pub use background::LocalBackground;
 pub use tracker::Tracker;
 
+pub use crate::frame::Roi;
 use crate::frame::{Pixels, Plane};
 use crate::units::PixelPoint;
 use image::{Img, Pixel, Rect, StudioLuma};
@@ -116,26 +117,6 @@ impl SpotFix {
             snr: 0.0,
             status,
         }
-    }
-}
-
-/// A rectangle of the image, in whole pixels.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
-pub struct Roi {
-    pub x: usize,
-    pub y: usize,
-    pub width: usize,
-    pub height: usize,
-}
-
-impl Roi {
-    /// Whether the rectangle is non-empty and lies wholly inside a `width` x `height` image.
-    /// (The finder itself quietly cuts an ROI to the image; callers use this to refuse bad input.)
-    pub fn fits_in(&self, width: usize, height: usize) -> bool {
-        self.width > 0
-            && self.height > 0
-            && self.x.checked_add(self.width).is_some_and(|e| e <= width)
-            && self.y.checked_add(self.height).is_some_and(|e| e <= height)
     }
 }
 

@@ -14,8 +14,6 @@ import subprocess
 import numpy as np
 from scipy.optimize import curve_fit
 
-from util import run_spotlever
-
 # A single stretch of free oscillation, sampled every 2 s (angle, rad).
 T_D, TAU, AMP, EQ, PHI, NOISE = 523.0, 2400.0, 2.0e-3, 3.1e-4, 0.7, 4.0e-6
 DT, N = 2.0, 2400
@@ -120,7 +118,6 @@ def run(bin_path, probe, work, table):
     t, y = series()
     f_np = numpy_peak(t, y)
     res, msg = call_probe(probe, {"op": "spectrum", "t": t.tolist(), "y": y.tolist(), "pad": 8}, work, "spectrum")
-    f_true = 1.0 / T_D
     qty = "FFT peak period s (Hann, 8x zero padding, log-parabola)"
     # Same recipe on the same samples: agreement to rounding (1e-9 relative, common practice, no source).
     if res is None:

@@ -11,7 +11,6 @@ import os
 import sys
 import time
 
-import numpy as np
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 
@@ -59,8 +58,9 @@ def main():
         print()
         print(
             f"speed on the clip: decode alone {speed['decode_s']:.1f} s, delivered through a pipe "
-            f"{speed['deliver_s']:.1f} s, track {speed['track_s']:.1f} s (overhead {r1:+.3f} over delivered, "
-            f"{speed['overhead_pure']:+.3f} over decode alone), analyze {speed['analyze_s']:.2f} s, baseline {speed['baseline_s']:.1f} s "
+            f"{speed['deliver_s']:.1f} s; track {speed['track_s']:.1f} s (overhead {r1:+.3f} over decode alone, "
+            f"{speed['overhead_deliver']:+.3f} over delivered), track with the --roi band {speed['band_s']:.1f} s "
+            f"(overhead {speed['overhead_band']:+.3f}); analyze {speed['analyze_s']:.2f} s, baseline {speed['baseline_s']:.1f} s "
             f"(end-to-end ratio {r2:.3f}), --every 1 {speed['every1_s']:.1f} s (speed-up {r3:.2f}x), "
             f"key-frame decode alone {speed['decode_key_s']:.1f} s; rendering {speed['render_s']:.1f} s"
         )
