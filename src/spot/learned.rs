@@ -95,32 +95,31 @@ impl ScreenModel {
                 (row.len(), row.len())
             };
             for part in [0..a, b..row.len()] {
-                for ((v, m), n) in row[part.clone()]
-                    .iter()
-                    .zip(&mut mean[part.clone()])
-                    .zip(&mut seen[part])
-                {
-                    let v = v.value();
-                    if img.clipped(v) {
-                        continue;
-                    }
-                    let k = (*n + 1).min(MAX_SEEN);
-                    *m += (v as f32 - *m) * RECIPROCAL[k as usize];
-                    *n = k;
-                }
+                fold_row(
+                    img,
+                    &row[part.clone()],
+                    &mut mean[part.clone()],
+                    &mut seen[part],
+                );
             }
         }
     }
 }
 
-/// 1 / n for the running mean's counts 0..=MAX_SEEN (entry 0 unused), so the per-pixel update
-/// multiplies instead of dividing.
-const RECIPROCAL: [f32; MAX_SEEN as usize + 1] = {
-    let mut t = [0.0f32; MAX_SEEN as usize + 1];
-    let mut i = 1;
-    while i <= MAX_SEEN as usize {
-        t[i] = 1.0 / i as f32;
-        i += 1;
+/// Fold one row of pixels into their running means and counts; clipped pixels are left as they were.
+///
+/// Written without a branch or a table look-up: the weight `1 / k` is computed as `1.0 / k as f32`
+/// (the correctly rounded reciprocal, the value a table of reciprocals would hold, so the means are
+/// the same to the bit) and a clipped pixel keeps its old mean and count by selection.
+#[inline(always)]
+fn fold_row<P: Pixel>(img: &Img<P>, row: &[P], mean: &mut [f32], seen: &mut [u16]) {
+    for ((v, m), n) in row.iter().zip(mean.iter_mut()).zip(seen.iter_mut()) {
+        let v = v.value();
+        let keep = !img.clipped(v);
+        let k = (*n + 1).min(MAX_SEEN);
+        // For a clipped pixel the value computed is thrown away.
+        let updated = *m + (f32::from(v) - *m) * (1.0 / f32::from(k));
+        *m = if keep { updated } else { *m };
+        *n = if keep { k } else { *n };
     }
-    t
-};
+}

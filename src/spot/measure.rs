@@ -29,14 +29,29 @@ pub(crate) fn brightest_patch<P: Pixel>(
     };
     let mut best = (x.clamp(win.x0, win.x1 - 1), y.clamp(win.y0, win.y1 - 1));
     let mut best_sum = 0u32;
+    // Separable sums: across each row first (for the window's columns, over the rows it touches),
+    // then down each column. Neighbourhoods are cut to `rect`, as the whole search is.
+    let (rx0, rx1) = (
+        win.x0.saturating_sub(1).max(rect.x0),
+        (win.x1 + 1).min(rect.x1),
+    );
+    let (ry0, ry1) = (
+        win.y0.saturating_sub(1).max(rect.y0),
+        (win.y1 + 1).min(rect.y1),
+    );
+    let w = win.width();
+    let mut across = vec![0u32; (ry1 - ry0) * w];
+    for (yy, sums) in (ry0..ry1).zip(across.chunks_exact_mut(w)) {
+        let row = img.row(yy, rx0, rx1);
+        for (xx, s) in (win.x0..win.x1).zip(sums.iter_mut()) {
+            let (a, b) = (xx.saturating_sub(1).max(rx0), (xx + 2).min(rx1));
+            *s = row[a - rx0..b - rx0].iter().map(|v| v.value() as u32).sum();
+        }
+    }
     for yy in win.y0..win.y1 {
-        for xx in win.x0..win.x1 {
-            let mut s = 0u32;
-            for ny in yy.saturating_sub(1).max(rect.y0)..(yy + 2).min(rect.y1) {
-                for nx in xx.saturating_sub(1).max(rect.x0)..(xx + 2).min(rect.x1) {
-                    s += img.get(nx, ny) as u32;
-                }
-            }
+        let (a, b) = (yy.saturating_sub(1).max(ry0), (yy + 2).min(ry1));
+        for (i, xx) in (win.x0..win.x1).enumerate() {
+            let s: u32 = (a..b).map(|ny| across[(ny - ry0) * w + i]).sum();
             if s > best_sum {
                 best_sum = s;
                 best = (xx, yy);
@@ -186,4 +201,73 @@ pub(crate) fn measure<P: Pixel>(
         fix,
         background: bg,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rand::{Rng, SeedableRng};
+
+    /// The 3 x 3 sums taken one neighbourhood at a time, as the search is defined.
+    fn brightest_patch_by_definition(
+        img: &Img<u8>,
+        rect: &Rect,
+        x: usize,
+        y: usize,
+        half: usize,
+    ) -> (usize, usize) {
+        let Some(win) = rect.around(x as f64, y as f64, half) else {
+            return (x, y);
+        };
+        let mut best = (x.clamp(win.x0, win.x1 - 1), y.clamp(win.y0, win.y1 - 1));
+        let mut best_sum = 0u32;
+        for yy in win.y0..win.y1 {
+            for xx in win.x0..win.x1 {
+                let mut s = 0u32;
+                for ny in yy.saturating_sub(1).max(rect.y0)..(yy + 2).min(rect.y1) {
+                    for nx in xx.saturating_sub(1).max(rect.x0)..(xx + 2).min(rect.x1) {
+                        s += img.get(nx, ny) as u32;
+                    }
+                }
+                if s > best_sum {
+                    best_sum = s;
+                    best = (xx, yy);
+                }
+            }
+        }
+        best
+    }
+
+    #[test]
+    fn separable_brightest_patch_is_the_neighbourhood_search() {
+        let mut rng = rand::rngs::StdRng::seed_from_u64(7);
+        let (w, h) = (40, 30);
+        for case in 0..400 {
+            // Coarse values make ties common, so the first-found rule is exercised too.
+            let data: Vec<u8> = (0..w * h).map(|_| rng.random_range(0..4u8) * 60).collect();
+            let img = Img {
+                data: &data,
+                w,
+                h,
+                white: 255,
+            };
+            let (x0, y0) = (rng.random_range(0..10), rng.random_range(0..10));
+            let rect = Rect {
+                x0,
+                y0,
+                x1: rng.random_range(x0 + 1..=w),
+                y1: rng.random_range(y0 + 1..=h),
+            };
+            let (x, y, half) = (
+                rng.random_range(0..w),
+                rng.random_range(0..h),
+                rng.random_range(0..8),
+            );
+            assert_eq!(
+                brightest_patch(&img, &rect, x, y, half),
+                brightest_patch_by_definition(&img, &rect, x, y, half),
+                "case {case}: rect {rect:?}, seed ({x}, {y}), half {half}"
+            );
+        }
+    }
 }

@@ -215,14 +215,14 @@ def run(bin_path, py, work, table):
     y_row = float(scene.apply_h(h_mm_to_px(), [[0.0, Y_MM]])[0][1])
     band = (0, int(round(y_row - BAND_PX / 2)), W, BAND_PX)
     track_band = os.path.join(work, "clip_track_band.csv")
-    # Whole pictures and the band are tracked twice each, in turn, with the floors measured once more
-    # in between, and the shorter time of each kept: the same rule on both sides of an overhead, so
-    # a busy moment on a shared machine does not decide it. CPU seconds (spotlever with its ffmpeg,
-    # against ffmpeg alone) are kept as well: they move less with the machine's load than wall time.
+    # Whole pictures and the band are tracked three times each, in turn, with the floors measured
+    # (three times in all) in between, and the shortest time of each kept: the same rule on both
+    # sides of an overhead, so a busy moment on a shared machine does not decide it. CPU seconds
+    # (spotlever with its ffmpeg, against ffmpeg alone) are kept as well, the same way.
     runs = {"track": [], "band": []}
     ok_tr = ok_band = True
     msg_tr = msg_band = ""
-    for k in range(2):
+    for k in range(3):
         if ok_tr:
             (ok_tr, msg_tr), wall, cpu = clocked(lambda: run_spotlever(
                 bin_path, ["track", clip] + calib_args + ["--out", track]))
@@ -231,7 +231,7 @@ def run(bin_path, py, work, table):
             (ok_band, msg_band), wall, cpu = clocked(lambda: run_spotlever(
                 bin_path, ["track", clip] + calib_args + ["--roi", ",".join(map(str, band)), "--out", track_band]))
             runs["band"].append((wall, cpu))
-        if k == 0:
+        if k < 2:
             floor_runs.append(floors())
     t_tracks = [w for w, _ in runs["track"]]
     t_bands = [w for w, _ in runs["band"]]
@@ -246,9 +246,7 @@ def run(bin_path, py, work, table):
     t0 = time.perf_counter()
     ok_e1, msg_e1 = run_spotlever(bin_path, ["track", clip] + calib_args + ["--every", "1", "--out", track1])
     t_every = time.perf_counter() - t0
-    # The floors a third time, after all the tracking runs; the smallest of each is used (the
-    # conservative choice for the overhead).
-    floor_runs.append(floors())
+    # The smallest of each floor is used (the conservative choice for the overhead).
     t_decode, cpu_decode, t_deliver, _ = (min(f[i] for f in floor_runs) for i in range(4))
     decode_walls = "/".join(f"{f[0]:.1f}" for f in floor_runs)
     deliver_walls = "/".join(f"{f[2]:.1f}" for f in floor_runs)
@@ -297,7 +295,7 @@ def run(bin_path, py, work, table):
     segs = segment_values(doc) if doc else []
     bsegs = base["segments"] if base else []
     t0_truth = natural_period()
-    for k in range(2):
+    for k in range(3):
         b_eq = bsegs[k]["equilibrium_px"] - eq_truth[k] if k < len(bsegs) else math.nan
         b_p = bsegs[k]["period_s"] - t0_truth if k < len(bsegs) else math.nan
         s_eq = segs[k][0] - eq_truth[k] if k < len(segs) and segs[k][0] is not None else None
