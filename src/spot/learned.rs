@@ -108,18 +108,28 @@ impl ScreenModel {
 
 /// Fold one row of pixels into their running means and counts; clipped pixels are left as they were.
 ///
-/// Written without a branch or a table look-up: the weight `1 / k` is computed as `1.0 / k as f32`
-/// (the correctly rounded reciprocal, the value a table of reciprocals would hold, so the means are
-/// the same to the bit) and a clipped pixel keeps its old mean and count by selection.
+/// Written as two plain loops over short chunks, without a branch or a table look-up, so the
+/// compiler can work on several pixels at once: the first updates the counts and gives each pixel
+/// its weight, `1.0 / k as f32` (the correctly rounded reciprocal, the value a table of reciprocals
+/// would hold) or 0 for a clipped pixel; the second moves each mean by its weight. A clipped pixel's
+/// mean moves by an exact zero, so the means are the same to the bit as a pixel-by-pixel update.
 #[inline(always)]
 fn fold_row<P: Pixel>(img: &Img<P>, row: &[P], mean: &mut [f32], seen: &mut [u16]) {
-    for ((v, m), n) in row.iter().zip(mean.iter_mut()).zip(seen.iter_mut()) {
-        let v = v.value();
-        let keep = !img.clipped(v);
-        let k = (*n + 1).min(MAX_SEEN);
-        // For a clipped pixel the value computed is thrown away.
-        let updated = *m + (f32::from(v) - *m) * (1.0 / f32::from(k));
-        *m = if keep { updated } else { *m };
-        *n = if keep { k } else { *n };
+    const CHUNK: usize = 64;
+    let mut weight = [0.0f32; CHUNK];
+    for ((r, m), n) in row
+        .chunks(CHUNK)
+        .zip(mean.chunks_mut(CHUNK))
+        .zip(seen.chunks_mut(CHUNK))
+    {
+        for ((v, n), w) in r.iter().zip(n.iter_mut()).zip(weight.iter_mut()) {
+            let keep = !img.clipped(v.value());
+            let k = (*n + 1).min(MAX_SEEN);
+            *n = if keep { k } else { *n };
+            *w = if keep { 1.0 / f32::from(k) } else { 0.0 };
+        }
+        for ((v, m), w) in r.iter().zip(m.iter_mut()).zip(&weight) {
+            *m += (f32::from(v.value()) - *m) * w;
+        }
     }
 }

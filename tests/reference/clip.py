@@ -295,7 +295,7 @@ def run(bin_path, py, work, table):
     segs = segment_values(doc) if doc else []
     bsegs = base["segments"] if base else []
     t0_truth = natural_period()
-    for k in range(3):
+    for k in range(2):
         b_eq = bsegs[k]["equilibrium_px"] - eq_truth[k] if k < len(bsegs) else math.nan
         b_p = bsegs[k]["period_s"] - t0_truth if k < len(bsegs) else math.nan
         s_eq = segs[k][0] - eq_truth[k] if k < len(segs) and segs[k][0] is not None else None
