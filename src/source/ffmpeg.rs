@@ -115,15 +115,14 @@ impl Transfer {
 
     /// The filter chain and output pixel format given to ffmpeg, cutting each picture to `crop`.
     fn ffmpeg_output(self, crop: Option<Roi>) -> (String, &'static str) {
-        // showinfo prints each frame's exact timestamp; its checksums are not needed. The crop comes
-        // after the picture is in its output format, so it is exact to the pixel even where chroma is
-        // subsampled (ffmpeg's crop only moves plane pointers; the muxer copies the rectangle out).
+        // showinfo prints each frame's exact timestamp; its checksums are not needed. The picture is
+        // put in its output format inside the chain, so the crop after it is exact to the pixel even
+        // where chroma is subsampled (ffmpeg's crop only moves plane pointers; the muxer copies the
+        // rectangle out).
         let (chain, pix_fmt) = match self {
             Transfer::LumaPlane { .. } => ("showinfo=checksum=0,extractplanes=y", "gray"),
-            Transfer::Gray if crop.is_some() => ("showinfo=checksum=0,format=gray", "gray"),
-            Transfer::Gray => ("showinfo=checksum=0", "gray"),
-            Transfer::Rgb if crop.is_some() => ("showinfo=checksum=0,format=rgb24", "rgb24"),
-            Transfer::Rgb => ("showinfo=checksum=0", "rgb24"),
+            Transfer::Gray => ("showinfo=checksum=0,format=gray", "gray"),
+            Transfer::Rgb => ("showinfo=checksum=0,format=rgb24", "rgb24"),
         };
         let chain = match crop {
             Some(r) => format!("{chain},crop={}:{}:{}:{}", r.width, r.height, r.x, r.y),
@@ -589,19 +588,6 @@ impl FfmpegSource {
         ]);
         let mut child = spawn_ffmpeg(&mut cmd, path, &p.codec)?;
         drop(cmd);
-        let (plane_w, plane_h) = crop.map_or((p.width, p.height), |r| (r.width, r.height));
-        let frame_bytes = plane_w * plane_h * transfer.bytes_per_pixel();
-        let (spare_tx, spare_rx) = channel();
-        let (pictures_tx, pictures_rx) = sync_channel(QUEUED_PICTURES);
-        let pipe_reader = child.stdout.take().map(|out| {
-            widen_pipe(&out);
-            spawn_pipe_reader(out, frame_bytes, spare_rx, pictures_tx)
-        });
-        let (tx, rx) = channel();
-        let reader = child
-            .stderr
-            .take()
-            .map(|err| spawn_stderr_reader(err, Some(tx), problems.clone()));
         let expected = match (&plan, opts.every) {
             (Some(k), _) => Some(k.len() as u64),
             (None, Some(e)) => p.duration.map(|d| (d / e.0).ceil() as u64),
@@ -634,6 +620,19 @@ impl FfmpegSource {
             expected_frames: expected,
             crop,
         };
+        let (plane_w, plane_h) = info.plane_size();
+        let frame_bytes = plane_w * plane_h * transfer.bytes_per_pixel();
+        let (spare_tx, spare_rx) = channel();
+        let (pictures_tx, pictures_rx) = sync_channel(QUEUED_PICTURES);
+        let pipe_reader = child.stdout.take().map(|out| {
+            widen_pipe(&out);
+            spawn_pipe_reader(out, frame_bytes, spare_rx, pictures_tx)
+        });
+        let (tx, rx) = channel();
+        let reader = child
+            .stderr
+            .take()
+            .map(|err| spawn_stderr_reader(err, Some(tx), problems.clone()));
         Ok(Self {
             info,
             path: path.to_path_buf(),
@@ -713,10 +712,7 @@ impl FfmpegSource {
     }
 
     fn plane(&self, bytes: Vec<u8>) -> Result<Plane, PlaneSizeError> {
-        let (w, h) = self
-            .info
-            .crop
-            .map_or((self.info.width, self.info.height), |r| (r.width, r.height));
+        let (w, h) = self.info.plane_size();
         match self.transfer {
             Transfer::LumaPlane { widen: true } => Plane::from_studio_luma_vec(w, h, bytes),
             Transfer::LumaPlane { widen: false } => Plane::from_u8_vec(w, h, bytes),

@@ -61,6 +61,14 @@ pub struct SourceInfo {
     pub crop: Option<Roi>,
 }
 
+impl SourceInfo {
+    /// Width and height of the planes the source delivers: the crop's, or the whole picture's.
+    pub fn plane_size(&self) -> (usize, usize) {
+        self.crop
+            .map_or((self.width, self.height), |r| (r.width, r.height))
+    }
+}
+
 /// A fatal problem with a source. Every variant says where and what to do.
 #[derive(Debug, Error)]
 pub enum SourceError {

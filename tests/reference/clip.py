@@ -208,7 +208,7 @@ def run(bin_path, py, work, table):
         print(f"  calibrate failed ({msg_cal}); tracking in pixels only", flush=True)
     calib_args = ["--calib", calib] if ok_cal else []
     track = os.path.join(work, "clip_track.csv")
-    # The same with the ROI a user would draw on this set-up: the spot only swings along the scale,
+    # Also tracked with the ROI a user would draw on this set-up: the spot only swings along the scale,
     # so a band the picture's width and BAND_PX high around the scale's row where the spot runs
     # (taken from the screen's geometry, not from the track). ffmpeg cuts the band out before the
     # pipe, so a sixth of the bytes cross it.
