@@ -7,13 +7,17 @@
 //! clips this short the fixed start-up (ffprobe twice, one or two ffmpeg processes: about 0.5 s)
 //! takes most of the key-frame time; over a long recording the ratio approaches the bit share. The
 //! clip without B-frames is also read cut to a 1920x160 band inside ffmpeg (`track --roi`), which
-//! shows what moving whole pictures through the pipe costs.
+//! shows what moving whole pictures through the pipe costs. Built with the `linked-ffmpeg` feature,
+//! the same reads are also timed with ffmpeg's libraries decoding inside the process (no pipe).
 //!
-//! Run: `cargo bench --bench decode`. Skips (with a message) when ffmpeg is not on PATH.
+//! Run: `cargo bench --bench decode` (and `cargo bench --features linked-ffmpeg --bench decode`).
+//! Skips (with a message) when ffmpeg is not on PATH.
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use spotlever::frame::Roi;
-use spotlever::source::{ffmpeg_available, open, Delivery, OpenOptions, VideoDecoder};
+use spotlever::source::{
+    ffmpeg_available, open, Delivery, OpenOptions, VideoDecoder, LINKED_FFMPEG,
+};
 use spotlever::units::Seconds;
 use std::path::{Path, PathBuf};
 use std::process::Command;
@@ -92,17 +96,29 @@ fn key_share(clip: &Path) -> f64 {
 }
 
 fn drain(clip: &Path, every: Option<Seconds>, crop: Option<Roi>) -> u64 {
+    drain_with(VideoDecoder::Ffmpeg, clip, every, crop)
+}
+
+/// Read every delivery of `clip` with `decoder` and count the frames, giving buffers back as the
+/// tracker's loop does.
+fn drain_with(
+    decoder: VideoDecoder,
+    clip: &Path,
+    every: Option<Seconds>,
+    crop: Option<Roi>,
+) -> u64 {
     let opts = OpenOptions {
         every,
         crop,
-        decoder: VideoDecoder::Ffmpeg,
+        decoder,
         ..OpenOptions::default()
     };
     let mut src = open(clip, &opts).expect("open bench clip");
     let mut n = 0;
     while let Some(d) = src.next_delivery() {
-        if let Ok(Delivery::Frame(_)) = d {
+        if let Ok(Delivery::Frame(f)) = d {
             n += 1;
+            src.recycle(f);
         }
     }
     n
@@ -137,6 +153,19 @@ fn bench(c: &mut Criterion) {
             // What crosses the pipe for a band along the scale (`track --roi`), a sixth of a picture.
             g.bench_function("every_frame_band_1920x160", |b| {
                 b.iter(|| drain(&clip, None, Some(BAND)))
+            });
+        }
+        if LINKED_FFMPEG {
+            let linked = VideoDecoder::Linked;
+            assert_eq!(
+                drain_with(linked, &clip, Some(Seconds(1.0)), None),
+                SECONDS as u64
+            );
+            g.bench_function("every_frame_in_process", |b| {
+                b.iter(|| drain_with(linked, &clip, None, None))
+            });
+            g.bench_function("every_1s_key_frames_only_in_process", |b| {
+                b.iter(|| drain_with(linked, &clip, Some(Seconds(1.0)), None))
             });
         }
         g.finish();

@@ -9,11 +9,16 @@ use spotlever::spot::SpotStatus;
 use std::path::Path;
 use std::process::{Command, Output};
 
+/// Run `spotlever track`; `path_env` replaces PATH (`Some("")`: no ffmpeg program, and in a build
+/// with ffmpeg's libraries linked in, those are set aside too by asking for the built-in reader).
 fn track(args: &[&str], path_env: Option<&str>) -> Output {
     let mut c = Command::new(env!("CARGO_BIN_EXE_spotlever"));
     c.arg("track").args(args);
     if let Some(p) = path_env {
         c.env("PATH", p);
+        if p.is_empty() && spotlever::source::LINKED_FFMPEG {
+            c.args(["--decoder", "builtin"]);
+        }
     }
     c.output().expect("run spotlever")
 }

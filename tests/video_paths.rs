@@ -13,13 +13,6 @@ use std::path::Path;
 const W: usize = 160;
 const H: usize = 120;
 
-fn opts(decoder: VideoDecoder) -> OpenOptions {
-    OpenOptions {
-        decoder,
-        ..OpenOptions::default()
-    }
-}
-
 fn png_plane(dir: &Path, i: usize) -> Plane {
     let img = image::open(dir.join(format!("img{i}.png"))).expect("png");
     Plane::from_u8(W, H, img.to_luma8().as_raw())

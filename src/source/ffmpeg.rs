@@ -14,22 +14,18 @@
 //! decoder skips all other frames (`-skip_frame nokey`) and the kept frames are the same ones a full
 //! decode would keep.
 
+use super::keyplan::{self, seconds, KeyFramePlan, PacketFacts};
 use super::thin::Thinner;
 use super::{Delivery, FrameSource, OpenOptions, SourceError, SourceInfo};
 use crate::frame::{Channel, Frame, Plane, PlaneSizeError, Roi};
 use crate::units::Seconds;
-use std::cmp::Reverse;
-use std::collections::{BinaryHeap, VecDeque};
+use std::collections::VecDeque;
 use std::io::{BufRead, BufReader, Read};
 use std::path::{Path, PathBuf};
 use std::process::{Child, ChildStderr, ChildStdout, Command, Stdio};
 use std::sync::mpsc::{channel, sync_channel, Receiver, Sender, SyncSender};
 use std::sync::{Arc, Mutex};
 use std::thread::JoinHandle;
-
-/// Packets held back to put decode order into presentation order (H.264 and HEVC reorder by at
-/// most 16 frames; common practice, no source).
-const REORDER_WINDOW: usize = 64;
 
 /// Decoded pictures waiting in the pipe reader's queue: enough to ride over a slow frame on either
 /// side, few enough that memory does not grow with the run.
@@ -81,14 +77,25 @@ struct Probe {
 impl Probe {
     /// Whether the decoder's first plane is 8-bit luma that can be sent without conversion.
     fn luma_plane_direct(&self) -> bool {
-        LUMA_FIRST_FORMATS.contains(&self.pix_fmt.as_str())
+        luma_first(&self.pix_fmt)
     }
 
-    /// Whether the luma samples are studio range (16–235) and need widening to 0–255. Unknown
-    /// range counts as studio range for YUV, as ffmpeg's own scaler assumes.
+    /// Whether the luma samples are studio range (16–235) and need widening to 0–255.
     fn limited_range(&self) -> bool {
-        !(self.pix_fmt.starts_with("yuvj") || self.color_range == "pc")
+        limited_range(&self.pix_fmt, &self.color_range)
     }
+}
+
+/// Whether pictures of ffmpeg's pixel format `pix_fmt` have 8-bit luma as their first plane.
+pub(super) fn luma_first(pix_fmt: &str) -> bool {
+    LUMA_FIRST_FORMATS.contains(&pix_fmt)
+}
+
+/// Whether luma of pixel format `pix_fmt` with colour range `color_range` ("pc", "tv", "unknown",
+/// as ffmpeg names them) is studio range (16–235). Unknown range counts as studio range for YUV, as
+/// ffmpeg's own scaler assumes.
+pub(super) fn limited_range(pix_fmt: &str, color_range: &str) -> bool {
+    !(pix_fmt.starts_with("yuvj") || color_range == "pc")
 }
 
 /// How decoded pictures travel through the pipe and become a plane.
@@ -223,25 +230,8 @@ fn probe(path: &Path) -> Result<Probe, SourceError> {
     Ok(p)
 }
 
-/// Seconds of a timestamp relative to the stream start.
-fn seconds(pts: i64, start: i64, tb: (i64, i64)) -> Seconds {
-    Seconds((pts - start) as f64 * tb.0 as f64 / tb.1 as f64)
-}
-
-/// What a key-frame-only decode will do, planned from the packet index.
-struct KeyFramePlan {
-    /// Frames it keeps, `(pts, index in presentation order)`.
-    kept: VecDeque<(i64, u64)>,
-    /// Whether packets arrive out of presentation order (B-frames): their key frames are then
-    /// decoded in place, since passing them on through another container loses their exact times.
-    reorders: bool,
-    /// Packets in the file, counted while planning (a short count against the container's frame
-    /// count means the file ends early).
-    packets: u64,
-}
-
-/// Plan a key-frame-only decode; `None` when some interval's first frame is not a key frame (or
-/// timestamps are missing), so a full decode is needed.
+/// Plan a key-frame-only decode from the packet index that `ffprobe` lists (without decoding);
+/// `None` when a full decode is needed.
 fn plan_key_frames(
     path: &Path,
     p: &Probe,
@@ -270,60 +260,23 @@ fn plan_key_frames(
     let Some(out) = child.stdout.take() else {
         return Ok(None);
     };
-    let mut heap: BinaryHeap<Reverse<(i64, bool)>> = BinaryHeap::new();
-    let mut thin = Thinner::new(Some(every));
-    let mut kept = VecDeque::new();
-    let mut index = 0u64;
-    let mut ok = true;
-    let mut reorders = false;
-    let mut visit = |pts: i64, key: bool, ok: &mut bool| {
-        if thin.keep(seconds(pts, p.start_pts, p.time_base)) {
-            if !key {
-                *ok = false;
-            }
-            kept.push_back((pts, index));
-        }
-        index += 1;
-    };
-    let mut packets = 0u64;
-    for line in BufReader::new(out).lines() {
-        let Ok(line) = line else { break };
-        packets += 1;
-        let mut cells = line.split(',');
-        let (Some(pts), Some(dts), Some(flags)) = (cells.next(), cells.next(), cells.next()) else {
-            continue;
-        };
-        reorders |= pts.trim() != dts.trim();
-        if flags.contains('D') {
-            continue;
-        }
-        let Ok(pts) = pts.trim().parse::<i64>() else {
-            ok = false;
-            break;
-        };
-        heap.push(Reverse((pts, flags.contains('K'))));
-        if heap.len() > REORDER_WINDOW {
-            if let Some(Reverse((t, k))) = heap.pop() {
-                visit(t, k, &mut ok);
-            }
-        }
-        if !ok {
-            break;
-        }
-    }
-    while ok {
-        let Some(Reverse((t, k))) = heap.pop() else {
-            break;
-        };
-        visit(t, k, &mut ok);
-    }
+    let facts = BufReader::new(out)
+        .lines()
+        .map_while(Result::ok)
+        .filter_map(|line| {
+            let mut cells = line.split(',');
+            let (pts, dts, flags) = (cells.next()?, cells.next()?, cells.next()?);
+            Some(PacketFacts {
+                pts: pts.trim().parse().ok(),
+                dts: dts.trim().parse().ok(),
+                key: flags.contains('K'),
+                discard: flags.contains('D'),
+            })
+        });
+    let planned = keyplan::plan(facts, p.start_pts, p.time_base, every);
     let _ = child.kill();
     let _ = child.wait();
-    Ok(ok.then_some(KeyFramePlan {
-        kept,
-        reorders,
-        packets,
-    }))
+    Ok(planned)
 }
 
 enum ErrMsg {
@@ -516,12 +469,7 @@ impl FfmpegSource {
                 Some(k) => {
                     // Decoding only key frames never reads the missing end of a cut-off file, so
                     // the index is what tells.
-                    let short = p.nb_frames.filter(|&n| k.packets < n).map(|n| {
-                        format!(
-                            "the file's index lists {n} frames but only {} are in the file",
-                            k.packets
-                        )
-                    });
+                    let short = keyplan::short_file(p.nb_frames, k.packets);
                     (Some(k.kept), k.reorders, short)
                 }
                 None => (None, false, None),
@@ -588,13 +536,13 @@ impl FfmpegSource {
         ]);
         let mut child = spawn_ffmpeg(&mut cmd, path, &p.codec)?;
         drop(cmd);
-        let expected = match (&plan, opts.every) {
-            (Some(k), _) => Some(k.len() as u64),
-            (None, Some(e)) => p.duration.map(|d| (d / e.0).ceil() as u64),
-            (None, None) => p
-                .nb_frames
-                .or_else(|| Some((p.duration? * p.fps?).round() as u64)),
-        };
+        let expected = keyplan::expected_frames(
+            plan.as_ref().map(VecDeque::len),
+            opts.every,
+            p.duration,
+            p.nb_frames,
+            p.fps,
+        );
         let name = path
             .file_name()
             .map(|n| n.to_string_lossy().into_owned())
@@ -610,10 +558,7 @@ impl FfmpegSource {
                 } else {
                     ""
                 },
-                crop.map_or(String::new(), |r| format!(
-                    ", only the {}x{} rectangle at ({}, {}) read",
-                    r.width, r.height, r.x, r.y
-                ))
+                super::crop_note(crop)
             ),
             width: p.width,
             height: p.height,
@@ -779,19 +724,12 @@ impl FfmpegSource {
         if message.is_empty() {
             message = "ffmpeg ended with an error".into();
         }
-        let origin = self.path.display().to_string();
-        if self.decoded == 0 {
-            return Some(Err(SourceError::Decode {
-                origin,
-                message: format!("no frame could be decoded ({message})"),
-            }));
-        }
-        Some(Err(SourceError::Truncated {
-            origin,
-            frames: self.decoded,
-            t_s: self.last_t,
+        Some(Err(SourceError::stopped(
+            &self.path,
+            self.decoded,
+            self.last_t,
             message,
-        }))
+        )))
     }
 }
 
@@ -832,26 +770,20 @@ impl FrameSource for FfmpegSource {
                     i
                 }
                 Some(plan) => {
-                    // Planned key frames the decoder skipped are reported, then this one is matched.
-                    while plan.front().is_some_and(|&(p, _)| p < ticks) {
-                        if let Some((p, i)) = plan.pop_front() {
-                            let tt = seconds(p, self.probe.start_pts, self.probe.time_base);
-                            self.pending.push_back(Delivery::Unreadable {
-                                index: i,
-                                t: tt,
-                                origin: format!("frame {i} of {}", self.path.display()),
-                                reason: "the decoder returned no picture for this key frame".into(),
-                            });
-                        }
-                    }
-                    match plan.front() {
-                        Some(&(p, i)) if p == ticks => {
-                            plan.pop_front();
+                    match keyplan::match_planned(
+                        plan,
+                        ticks,
+                        self.probe.start_pts,
+                        self.probe.time_base,
+                        &self.path,
+                        &mut self.pending,
+                    ) {
+                        Some(i) => {
                             self.decoded = i + 1;
                             self.last_t = t.0;
                             i
                         }
-                        _ => {
+                        None => {
                             self.give_back(bytes);
                             continue;
                         }

@@ -16,6 +16,9 @@ mod annexb;
 pub mod drive;
 mod ffmpeg;
 mod h264;
+mod keyplan;
+#[cfg(feature = "linked-ffmpeg")]
+mod linked;
 mod natural;
 mod pixels;
 mod sequence;
@@ -24,6 +27,8 @@ mod times;
 
 pub use ffmpeg::{ffmpeg_available, FfmpegSource};
 pub use h264::BuiltinH264Source;
+#[cfg(feature = "linked-ffmpeg")]
+pub use linked::LinkedSource;
 pub use natural::natural_cmp;
 pub use sequence::ImageSequence;
 pub use thin::{keyframes_suffice, Thinner};
@@ -108,6 +113,24 @@ pub enum SourceError {
 }
 
 impl SourceError {
+    /// Decoding of `origin` stopped early for `message`: `Decode` when no frame had come out yet,
+    /// else `Truncated` after `frames` frames, the last at `last_t_s`.
+    pub(crate) fn stopped(origin: &Path, frames: u64, last_t_s: f64, message: String) -> Self {
+        let origin = origin.display().to_string();
+        if frames == 0 {
+            return SourceError::Decode {
+                origin,
+                message: format!("no frame could be decoded ({message})"),
+            };
+        }
+        SourceError::Truncated {
+            origin,
+            frames,
+            t_s: last_t_s,
+            message,
+        }
+    }
+
     /// An error opening or reading `path`: `Missing` when it does not exist.
     pub(crate) fn from_io(path: &Path, source: std::io::Error) -> Self {
         let path = path.display().to_string();
@@ -131,12 +154,18 @@ pub trait FrameSource {
     }
 }
 
+/// Whether this build has ffmpeg's libraries linked in (the `linked-ffmpeg` feature).
+pub const LINKED_FFMPEG: bool = cfg!(feature = "linked-ffmpeg");
+
 /// Which decoder reads video files.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum)]
 pub enum VideoDecoder {
-    /// The `ffmpeg` program when it is on PATH, else the built-in H.264 reader.
+    /// ffmpeg's libraries in this process when the build has them, else the `ffmpeg` program when
+    /// it is on PATH, else the built-in H.264 reader.
     #[default]
     Auto,
+    /// ffmpeg's libraries inside this process (builds with the `linked-ffmpeg` feature only).
+    Linked,
     /// Always the `ffmpeg` program.
     Ffmpeg,
     /// Always the built-in reader (MP4 with H.264 without B-frames).
@@ -159,6 +188,16 @@ pub struct OpenOptions {
     /// reach this process (the `ffmpeg` source does; the others ignore it and deliver whole pictures).
     /// [`SourceInfo::crop`] tells which happened.
     pub crop: Option<Roi>,
+}
+
+/// The end of a video source's description: which rectangle it reads, when it cuts pictures down.
+pub(crate) fn crop_note(crop: Option<Roi>) -> String {
+    crop.map_or(String::new(), |r| {
+        format!(
+            ", only the {}x{} rectangle at ({}, {}) read",
+            r.width, r.height, r.x, r.y
+        )
+    })
 }
 
 /// File extensions read as still images.
@@ -207,14 +246,31 @@ pub fn open(path: &Path, opts: &OpenOptions) -> Result<Box<dyn FrameSource>, Sou
             message: "a video carries its own frame times; --fps and --times apply to image sequences only".into(),
         });
     }
-    let use_ffmpeg = match opts.decoder {
-        VideoDecoder::Ffmpeg => true,
-        VideoDecoder::Builtin => false,
-        VideoDecoder::Auto => ffmpeg_available(),
+    let decoder = match opts.decoder {
+        VideoDecoder::Auto if LINKED_FFMPEG => VideoDecoder::Linked,
+        VideoDecoder::Auto if ffmpeg_available() => VideoDecoder::Ffmpeg,
+        VideoDecoder::Auto => VideoDecoder::Builtin,
+        d => d,
     };
-    if use_ffmpeg {
-        Ok(Box::new(FfmpegSource::open(path, opts)?))
-    } else {
-        Ok(Box::new(BuiltinH264Source::open(path, opts)?))
+    match decoder {
+        VideoDecoder::Linked => open_linked(path, opts),
+        VideoDecoder::Ffmpeg => Ok(Box::new(FfmpegSource::open(path, opts)?)),
+        _ => Ok(Box::new(BuiltinH264Source::open(path, opts)?)),
     }
+}
+
+#[cfg(feature = "linked-ffmpeg")]
+fn open_linked(path: &Path, opts: &OpenOptions) -> Result<Box<dyn FrameSource>, SourceError> {
+    Ok(Box::new(LinkedSource::open(path, opts)?))
+}
+
+#[cfg(not(feature = "linked-ffmpeg"))]
+fn open_linked(path: &Path, _opts: &OpenOptions) -> Result<Box<dyn FrameSource>, SourceError> {
+    Err(SourceError::NeedsDecoder {
+        path: path.display().to_string(),
+        codec: "video".into(),
+        advice: "this build has no ffmpeg libraries linked in; use --decoder ffmpeg, or rebuild \
+                 with --features linked-ffmpeg (README, 'Video input')"
+            .into(),
+    })
 }

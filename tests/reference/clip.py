@@ -142,7 +142,29 @@ def natural_period():
     return 2 * math.pi / math.hypot(2 * math.pi / T_D, 1.0 / TAU)
 
 
-def run(bin_path, py, work, table):
+def max_difference(track_a, track_b):
+    """Largest difference of x or y, px, between two track files of the same frames; nan when they
+    do not list the same frames or a position is missing."""
+    a = {r["frame"]: (r["x_px"], r["y_px"]) for r in read_track(track_a)}
+    b = {r["frame"]: (r["x_px"], r["y_px"]) for r in read_track(track_b)}
+    if a.keys() != b.keys() or any(v[0] is None for v in list(a.values()) + list(b.values())):
+        return math.nan
+    return max(max(abs(a[k][0] - b[k][0]), abs(a[k][1] - b[k][1])) for k in a)
+
+
+def decode_alone(probe, work, decoder):
+    """Run the probe's "decode" operation: every frame read by spotlever's own video source with
+    `decoder` and thrown away (no tracking). Returns (ok, message)."""
+    req = os.path.join(work, "decode.in.json")
+    with open(req, "w") as f:
+        json.dump({"op": "decode", "path": os.path.join(work, "clip.mp4"), "decoder": decoder}, f)
+    p = subprocess.run([probe, req, os.path.join(work, "decode.out.json")], capture_output=True, text=True)
+    return p.returncode == 0, p.stderr.strip()[-300:]
+
+
+def run(bin_path, py, work, table, probe="", linked=False):
+    """`linked`: the spotlever build has ffmpeg's libraries linked in (feature linked-ffmpeg), so its
+    default decoder works inside the process; the ffmpeg program's pipe is then timed as well."""
     os.makedirs(work, exist_ok=True)
     print(f"rendering and encoding the {W}x{H} clip ({FRAMES} frames)...", flush=True)
     clip, truth, t_render = render(work)
@@ -167,11 +189,20 @@ def run(bin_path, py, work, table):
     drain = [py, os.path.join(os.path.dirname(os.path.abspath(__file__)), "drain.py"), str(W * H),
              "-nostdin", "-loglevel", "info", "-i", clip] + same
 
+    own = linked and probe and os.path.exists(probe)
+
     def floors():
-        """(decode wall, decode CPU, delivered wall, delivered CPU), seconds."""
+        """(decode wall, decode CPU, delivered wall, delivered CPU, own decoder wall), seconds; the
+        last is spotlever's in-process decoder reading every frame without tracking (nan without it)."""
         _, a, ca = clocked(lambda: timed(["ffmpeg", "-nostdin", "-loglevel", "info", "-i", clip] + same + ["-y", "/dev/null"]))
         _, b, cb = clocked(lambda: timed(drain))
-        return a, ca, b, cb
+        c = math.nan
+        if own:
+            (ok_own, msg_own), c, _ = clocked(lambda: decode_alone(probe, work, "linked"))
+            if not ok_own:
+                print(f"  decoding alone with the linked decoder failed: {msg_own}", flush=True)
+                c = math.nan
+        return a, ca, b, cb, c
 
     floor_runs = [floors()]
     _, t_decode_key = timed(["ffmpeg", "-nostdin", "-loglevel", "info", "-skip_frame", "nokey", "-i", clip] + same
@@ -219,17 +250,27 @@ def run(bin_path, py, work, table):
     # (three times in all) in between, and the shortest time of each kept: the same rule on both
     # sides of an overhead, so a busy moment on a shared machine does not decide it. CPU seconds
     # (spotlever with its ffmpeg, against ffmpeg alone) are kept as well, the same way.
-    runs = {"track": [], "band": []}
+    # With the linked decoder, whole pictures through the ffmpeg program's pipe are timed too.
+    track_pipe = os.path.join(work, "clip_track_pipe.csv")
+    # The band always goes through the ffmpeg program's pipe (the way a build without linked-ffmpeg
+    # reads video), where cutting it out early is what saves the time.
+    via_pipe = ["--decoder", "ffmpeg"] if linked else []
+    runs = {"track": [], "band": [], "pipe": []}
     ok_tr = ok_band = True
-    msg_tr = msg_band = ""
+    ok_pipe = bool(linked)
+    msg_tr = msg_band = msg_pipe = ""
     for k in range(3):
         if ok_tr:
             (ok_tr, msg_tr), wall, cpu = clocked(lambda: run_spotlever(
                 bin_path, ["track", clip] + calib_args + ["--out", track]))
             runs["track"].append((wall, cpu))
+        if ok_pipe:
+            (ok_pipe, msg_pipe), wall, cpu = clocked(lambda: run_spotlever(
+                bin_path, ["track", clip, "--decoder", "ffmpeg"] + calib_args + ["--out", track_pipe]))
+            runs["pipe"].append((wall, cpu))
         if ok_band:
             (ok_band, msg_band), wall, cpu = clocked(lambda: run_spotlever(
-                bin_path, ["track", clip] + calib_args + ["--roi", ",".join(map(str, band)), "--out", track_band]))
+                bin_path, ["track", clip] + via_pipe + calib_args + ["--roi", ",".join(map(str, band)), "--out", track_band]))
             runs["band"].append((wall, cpu))
         if k < 2:
             floor_runs.append(floors())
@@ -237,6 +278,9 @@ def run(bin_path, py, work, table):
     t_bands = [w for w, _ in runs["band"]]
     t_track, cpu_track = min(t_tracks), min(c for _, c in runs["track"])
     t_band, cpu_band = min(t_bands), min(c for _, c in runs["band"])
+    t_pipes = [w for w, _ in runs["pipe"]]
+    t_pipe = min(t_pipes) if t_pipes else math.nan
+    cpu_pipe = min((c for _, c in runs["pipe"]), default=math.nan)
     out_dir = os.path.join(work, "clip_analysis")
     t0 = time.perf_counter()
     ok_an, msg_an = (False, "no track") if not ok_tr else run_spotlever(
@@ -247,7 +291,8 @@ def run(bin_path, py, work, table):
     ok_e1, msg_e1 = run_spotlever(bin_path, ["track", clip] + calib_args + ["--every", "1", "--out", track1])
     t_every = time.perf_counter() - t0
     # The smallest of each floor is used (the conservative choice for the overhead).
-    t_decode, cpu_decode, t_deliver, _ = (min(f[i] for f in floor_runs) for i in range(4))
+    t_decode, cpu_decode, t_deliver, _, t_own = (min(f[i] for f in floor_runs) for i in range(5))
+    own_walls = "/".join(f"{f[4]:.1f}" for f in floor_runs)
     decode_walls = "/".join(f"{f[0]:.1f}" for f in floor_runs)
     deliver_walls = "/".join(f"{f[2]:.1f}" for f in floor_runs)
 
@@ -275,12 +320,7 @@ def run(bin_path, py, work, table):
         + ("" if ok_tr else f"; spotlever: {msg_tr}"),
     )
     # With the band the same pixels are looked at, so the positions must be the same ones.
-    band_diff = math.nan
-    if ok_tr and ok_band:
-        whole = {r["frame"]: (r["x_px"], r["y_px"]) for r in read_track(track)}
-        cut = {r["frame"]: (r["x_px"], r["y_px"]) for r in read_track(track_band)}
-        if whole.keys() == cut.keys() and all(v[0] is not None for v in cut.values()):
-            band_diff = max(max(abs(whole[k][0] - cut[k][0]), abs(whole[k][1] - cut[k][1])) for k in whole)
+    band_diff = max_difference(track, track_band) if ok_tr and ok_band else math.nan
     table.add(
         f"clip: track --roi band ({band[2]}x{band[3]}) vs whole pictures, max position difference px",
         f"{band_diff:.4f}" if band_diff == band_diff else "n/a",
@@ -291,6 +331,19 @@ def run(bin_path, py, work, table):
         "agreement: ffmpeg's cut gives the rectangle's pixels exactly"
         + ("" if ok_band else f"; spotlever: {msg_band}"),
     )
+    if linked:
+        # The in-process decoder and the ffmpeg program's pipe deliver the same pixels, so the
+        # positions must be the same ones.
+        pipe_diff = max_difference(track, track_pipe) if ok_tr and ok_pipe else math.nan
+        table.add(
+            "clip: in-process decoding vs the ffmpeg program's pipe, max position difference px",
+            f"{pipe_diff:.4f}" if pipe_diff == pipe_diff else "n/a",
+            "0 (the same decoder library, the same pixels)",
+            "0",
+            "PASS" if pipe_diff <= 1e-4 else "FAIL",
+            "agreement: track (linked-ffmpeg build) against track --decoder ffmpeg"
+            + ("" if ok_pipe else f"; spotlever: {msg_pipe}"),
+        )
     doc, ok_an, msg_an = read_result(ok_an, msg_an, out_dir)
     segs = segment_values(doc) if doc else []
     bsegs = base["segments"] if base else []
@@ -329,20 +382,41 @@ def run(bin_path, py, work, table):
     r2 = (t_track + t_analyze) / t_base if ok_tr and ok_an and base else math.nan
     r3 = t_base / t_every if ok_e1 and base else math.nan
     floors_note = f"decoding written to nowhere {t_decode:.1f} s (runs {decode_walls} s, shortest used)"
+    how = "ffmpeg's libraries in the process (linked-ffmpeg build)" if linked else "the ffmpeg program through a pipe"
+    if linked:
+        r1_own = t_track / t_own - 1.0 if ok_tr else math.nan
+        own_note = (f"; over spotlever's own in-process decoder reading every frame without tracking "
+                    f"{t_own:.1f} s (runs {own_walls} s): {r1_own:+.3f}")
+    else:
+        own_note = (f". Most of it is the pipe: ffmpeg delivering the same pictures into a pipe to a reader that only "
+                    f"empties it takes {t_deliver:.1f} s ({t_deliver / t_decode - 1:+.3f}; runs {deliver_walls} s), "
+                    f"and tracking adds {r1_deliver:+.3f} to that")
     table.add(
         "speed: tracking whole pictures over decoding alone, - 1",
         f"{t_track:.1f} s track" if ok_tr else "n/a",
         f"{t_decode:.1f} s ffmpeg decode, same options",
         "-",
         "MET" if r1 <= 0.10 else "MISSED",
-        f"overhead {r1:+.3f} (target <= +0.10); track runs {'/'.join(f'{t:.1f}' for t in t_tracks)} s; {floors_note}; "
-        f"CPU {cpu_track:.1f} s against {cpu_decode:.1f} s ({cpu_track / cpu_decode - 1:+.3f}). "
-        f"Most of it is the pipe: ffmpeg delivering the same pictures into a pipe to a reader that only "
-        f"empties it takes {t_deliver:.1f} s ({t_deliver / t_decode - 1:+.3f}; runs {deliver_walls} s), "
-        f"and tracking adds {r1_deliver:+.3f} to that; plain decode without the timing filter {t_decode_plain:.1f} s",
+        f"overhead {r1:+.3f} (target <= +0.10); decoded by {how}; track runs {'/'.join(f'{t:.1f}' for t in t_tracks)} s; "
+        f"{floors_note}; CPU {cpu_track:.1f} s against {cpu_decode:.1f} s ({cpu_track / cpu_decode - 1:+.3f})"
+        f"{own_note}; plain decode without the timing filter {t_decode_plain:.1f} s",
     )
+    if linked:
+        r1_pipe = t_pipe / t_decode - 1.0 if ok_pipe else math.nan
+        table.add(
+            "speed: the same through the ffmpeg program's pipe (--decoder ffmpeg), - 1",
+            f"{t_pipe:.1f} s track" if ok_pipe else "n/a",
+            f"{t_decode:.1f} s ffmpeg decode, same options",
+            "-",
+            "INFO",
+            f"overhead {r1_pipe:+.3f}, for comparison (the build without linked-ffmpeg decodes this way); "
+            f"track runs {'/'.join(f'{t:.1f}' for t in t_pipes)} s; CPU {cpu_pipe:.1f} s; "
+            f"ffmpeg delivering the pictures into a pipe to a reader that only empties it takes {t_deliver:.1f} s "
+            f"({t_deliver / t_decode - 1:+.3f}; runs {deliver_walls} s)"
+            + ("" if ok_pipe else f"; spotlever: {msg_pipe}"),
+        )
     table.add(
-        f"speed: tracking with --roi band ({band[2]}x{band[3]}) over decoding alone, - 1",
+        f"speed: tracking with --roi band ({band[2]}x{band[3]}) through the ffmpeg program's pipe over decoding alone, - 1",
         f"{t_band:.1f} s track" if ok_band else "n/a",
         f"{t_decode:.1f} s ffmpeg decode, same options",
         "-",
@@ -371,7 +445,7 @@ def run(bin_path, py, work, table):
     )
     return {"decode_s": t_decode, "deliver_s": t_deliver, "decode_key_s": t_decode_key, "decode_plain_s": t_decode_plain, "track_s": t_track, "analyze_s": t_analyze,
             "every1_s": t_every, "baseline_s": t_base, "render_s": t_render, "band_s": t_band, "cpu_decode_s": cpu_decode, "cpu_track_s": cpu_track, "cpu_band_s": cpu_band,
-            "ratios": [r1, r2, r3], "overhead_band": r1_band,
+            "ratios": [r1, r2, r3], "overhead_band": r1_band, "own_decode_s": t_own, "pipe_s": t_pipe, "linked": bool(linked),
             "overhead_deliver": r1_deliver}
 
 

@@ -4,8 +4,10 @@
 //!
 //! Usage: `reference_probe REQUEST.json ANSWER.json`. Operations: see [`run`].
 
+use clap::ValueEnum;
 use serde_json::{json, Value};
 use spotlever::analysis::{damped, period};
+use spotlever::source::{self, Delivery, VideoDecoder};
 use std::process::ExitCode;
 
 type Failure = Box<dyn std::error::Error>;
@@ -58,6 +60,32 @@ fn run(req: &Value) -> Result<Value, Failure> {
                 "u_gamma": f.u(damped::GAMMA),
                 "u_omega": f.u(damped::OMEGA),
             }))
+        }
+        // Decoding alone, for the speed floor: every frame of a video read by spotlever's own source
+        // with the given decoder and thrown away (buffers recycled as the tracker's loop does):
+        // {"path": "clip.mp4", "decoder": "auto"|"linked"|"ffmpeg"|"builtin"} -> {"frames": ..}.
+        "decode" => {
+            let path = req
+                .get("path")
+                .and_then(Value::as_str)
+                .ok_or("request has no string 'path'")?;
+            let name = req.get("decoder").and_then(Value::as_str).unwrap_or("auto");
+            let decoder = VideoDecoder::from_str(name, true)?;
+            let mut src = source::open(
+                std::path::Path::new(path),
+                &source::OpenOptions {
+                    decoder,
+                    ..Default::default()
+                },
+            )?;
+            let mut frames = 0u64;
+            while let Some(d) = src.next_delivery() {
+                if let Delivery::Frame(f) = d? {
+                    frames += 1;
+                    src.recycle(f);
+                }
+            }
+            Ok(json!({ "frames": frames, "source": src.info().description }))
         }
         other => Err(format!("operation '{other}' is not available in this build").into()),
     }

@@ -60,9 +60,31 @@ except Exception as e:
 print(f"numpy {numpy.__version__}, scipy {scipy.__version__}, opencv {cv2.__version__}, trackpy {tp}")
 EOF
 
-say "building spotlever (release) and the probe example"
+# ffmpeg's libraries linked in (the linked-ffmpeg feature) decode without a pipe; they need their
+# development packages, pkg-config and libclang. Installed here when possible, else left out loudly
+# (the clip is then decoded by the ffmpeg program through a pipe).
+libs="libavcodec libavformat libavutil libswscale"
+have_libs() { command -v pkg-config >/dev/null 2>&1 && pkg-config --exists $libs; }
+if ! have_libs && [ "$(id -u)" = 0 ] && command -v apt-get >/dev/null 2>&1; then
+    say "installing ffmpeg's development libraries (Debian packages)"
+    apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq \
+        libavcodec-dev libavformat-dev libavutil-dev libswscale-dev libclang-dev pkg-config >/dev/null || true
+fi
+features=()
+if have_libs; then
+    features=(--features linked-ffmpeg)
+    export SPOTLEVER_REF_LINKED=1
+elif [ "${SPOTLEVER_REQUIRE_FFMPEG:-0}" = 1 ]; then
+    echo "error: ffmpeg's development libraries are missing but SPOTLEVER_REQUIRE_FFMPEG=1" >&2
+    exit 2
+else
+    echo "SKIP linked-ffmpeg: pkg-config finds no $libs (Debian/Ubuntu: sudo apt-get install libavcodec-dev libavformat-dev libavutil-dev libswscale-dev libclang-dev pkg-config); the clip is decoded through the ffmpeg program's pipe" >&2
+    export SPOTLEVER_REF_LINKED=0
+fi
+
+say "building spotlever (release) and the probe example ${features[*]}"
 cd "$root"
-cargo build --release --quiet --bin spotlever --example reference_probe
+cargo build --release --quiet "${features[@]}" --bin spotlever --example reference_probe
 bin="$root/target/release/spotlever"
 probe="$root/target/release/examples/reference_probe"
 

@@ -114,6 +114,14 @@ pub fn track_positions(planes: &[&spotlever::frame::Plane]) -> Vec<(f64, f64)> {
         .collect()
 }
 
+/// Default open options with the given video decoder.
+pub fn opts(decoder: spotlever::source::VideoDecoder) -> spotlever::source::OpenOptions {
+    spotlever::source::OpenOptions {
+        decoder,
+        ..Default::default()
+    }
+}
+
 /// Every frame `opts` gives from `path`, and the error that ended the reading early, if any; an
 /// unreadable frame fails the test.
 pub fn frames_of(
