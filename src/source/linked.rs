@@ -98,23 +98,25 @@ fn decode_error(path: &Path, message: String) -> SourceError {
     }
 }
 
-/// The stream's packets as the index lists them, read without decoding.
-fn packet_facts(path: &Path, stream: usize) -> Result<Vec<PacketFacts>, SourceError> {
+/// The stream's packets as the index lists them, read one at a time without decoding.
+fn packet_facts(
+    path: &Path,
+    stream: usize,
+) -> Result<impl Iterator<Item = PacketFacts>, SourceError> {
     let mut input = av::format::input(path)
         .map_err(|e| decode_error(path, format!("cannot read its packet index ({e})")))?;
     let mut packet = av::Packet::empty();
-    let mut facts = Vec::new();
-    while packet.read(&mut input).is_ok() {
+    Ok(std::iter::from_fn(move || loop {
+        packet.read(&mut input).ok()?;
         if packet.stream() == stream {
-            facts.push(PacketFacts {
+            return Some(PacketFacts {
                 pts: packet.pts(),
                 dts: packet.dts(),
                 key: packet.is_key(),
                 discard: packet.flags().bits() & av::ffi::AV_PKT_FLAG_DISCARD != 0,
             });
         }
-    }
-    Ok(facts)
+    }))
 }
 
 impl Decoding {
