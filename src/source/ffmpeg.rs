@@ -543,22 +543,14 @@ impl FfmpegSource {
             p.nb_frames,
             p.fps,
         );
-        let name = path
-            .file_name()
-            .map(|n| n.to_string_lossy().into_owned())
-            .unwrap_or_default();
         let info = SourceInfo {
-            description: format!(
-                "{name}: {} {}x{}, decoded by ffmpeg{}{}",
-                p.codec,
-                p.width,
-                p.height,
-                if plan.is_some() {
-                    ", key frames only"
-                } else {
-                    ""
-                },
-                super::crop_note(crop)
+            description: super::video_description(
+                path,
+                &p.codec,
+                (p.width, p.height),
+                "by ffmpeg",
+                plan.is_some(),
+                crop,
             ),
             width: p.width,
             height: p.height,

@@ -210,19 +210,14 @@ impl Decoding {
             .flat_map(|k| k.iter().map(|&(pts, _)| pts))
             .collect();
         let crop = opts.crop.filter(|r| r.fits_in(width, height));
-        let name = path
-            .file_name()
-            .map(|n| n.to_string_lossy().into_owned())
-            .unwrap_or_default();
         let info = SourceInfo {
-            description: format!(
-                "{name}: {codec} {width}x{height}, decoded in-process by ffmpeg's libraries{}{}",
-                if plan.is_some() {
-                    ", key frames only"
-                } else {
-                    ""
-                },
-                super::crop_note(crop)
+            description: super::video_description(
+                path,
+                &codec,
+                (width, height),
+                "in-process by ffmpeg's libraries",
+                plan.is_some(),
+                crop,
             ),
             width,
             height,

@@ -190,14 +190,34 @@ pub struct OpenOptions {
     pub crop: Option<Roi>,
 }
 
-/// The end of a video source's description: which rectangle it reads, when it cuts pictures down.
-pub(crate) fn crop_note(crop: Option<Roi>) -> String {
-    crop.map_or(String::new(), |r| {
-        format!(
+/// A video source's description: "clip.mp4: h264 1920x1080, decoded by ..., key frames only, only the
+/// WxH rectangle at (x, y) read".
+pub(crate) fn video_description(
+    path: &Path,
+    codec: &str,
+    size: (usize, usize),
+    decoded_by: &str,
+    key_frames_only: bool,
+    crop: Option<Roi>,
+) -> String {
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    let mut d = format!(
+        "{name}: {codec} {}x{}, decoded {decoded_by}",
+        size.0, size.1
+    );
+    if key_frames_only {
+        d.push_str(", key frames only");
+    }
+    if let Some(r) = crop {
+        d.push_str(&format!(
             ", only the {}x{} rectangle at ({}, {}) read",
             r.width, r.height, r.x, r.y
-        )
-    })
+        ));
+    }
+    d
 }
 
 /// File extensions read as still images.
