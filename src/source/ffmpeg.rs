@@ -14,8 +14,7 @@
 //! decoder skips all other frames (`-skip_frame nokey`) and the kept frames are the same ones a full
 //! decode would keep.
 
-use super::keyplan::{self, seconds, KeyFramePlan, PacketFacts};
-use super::thin::Thinner;
+use super::keyplan::{self, KeyFramePlan, PacketFacts, Picker};
 use super::{Delivery, FrameSource, OpenOptions, SourceError, SourceInfo};
 use crate::frame::{Channel, Frame, Plane, PlaneSizeError, Roi};
 use crate::units::Seconds;
@@ -438,11 +437,9 @@ pub struct FfmpegSource {
     channel: Channel,
     transfer: Transfer,
     frame_bytes: usize,
-    thin: Thinner,
-    plan: Option<VecDeque<(i64, u64)>>,
+    /// Which pictures become frames, and their indices.
+    pick: Picker,
     pending: VecDeque<Delivery>,
-    decoded: u64,
-    last_t: f64,
     done: bool,
 }
 
@@ -574,6 +571,7 @@ impl FfmpegSource {
             info,
             path: path.to_path_buf(),
             time_base: p.time_base,
+            pick: Picker::new(opts.every, plan, p.start_pts, p.time_base),
             probe: p,
             child: Some(child),
             demuxer,
@@ -588,18 +586,14 @@ impl FfmpegSource {
             channel: opts.channel,
             transfer,
             frame_bytes,
-            thin: Thinner::new(opts.every),
-            plan,
             pending: VecDeque::new(),
-            decoded: 0,
-            last_t: 0.0,
             done: false,
         })
     }
 
     /// Whether only key frames are decoded.
     pub fn key_frames_only(&self) -> bool {
-        self.plan.is_some()
+        self.pick.key_frames_only()
     }
 
     /// The next picture's bytes: Ok(Some) a full picture, Ok(None) a clean end.
@@ -701,7 +695,7 @@ impl FfmpegSource {
             .map(|q| q.iter().cloned().collect())
             .unwrap_or_default();
         let failed = status.is_some_and(|s| !s.success());
-        let missing_planned = self.plan.as_ref().is_some_and(|p| !p.is_empty());
+        let missing_planned = self.pick.planned_left();
         let read_error = read_error.or_else(|| self.ends_early.take());
         if read_error.is_none() && !failed && problems.is_empty() && !missing_planned {
             return None;
@@ -718,8 +712,8 @@ impl FfmpegSource {
         }
         Some(Err(SourceError::stopped(
             &self.path,
-            self.decoded,
-            self.last_t,
+            self.pick.decoded,
+            self.pick.last_t,
             message,
         )))
     }
@@ -749,54 +743,18 @@ impl FrameSource for FfmpegSource {
                 ));
             };
             let ticks = self.probe_ticks(pts);
-            let t = seconds(ticks, self.probe.start_pts, self.probe.time_base);
-            let index = match self.plan.as_mut() {
-                None => {
-                    let i = self.decoded;
-                    self.decoded += 1;
-                    self.last_t = t.0;
-                    if !self.thin.keep(t) {
-                        self.give_back(bytes);
-                        continue;
-                    }
-                    i
-                }
-                Some(plan) => {
-                    match keyplan::match_planned(
-                        plan,
-                        ticks,
-                        self.probe.start_pts,
-                        self.probe.time_base,
-                        &self.path,
-                        &mut self.pending,
-                    ) {
-                        Some(i) => {
-                            self.decoded = i + 1;
-                            self.last_t = t.0;
-                            i
-                        }
-                        None => {
-                            self.give_back(bytes);
-                            continue;
-                        }
-                    }
-                }
+            let (t, index) = self.pick.pick(ticks, &self.path, &mut self.pending);
+            let Some(index) = index else {
+                self.give_back(bytes);
+                continue;
             };
             let plane = match self.plane(bytes) {
                 Ok(p) => p,
                 Err(e) => return self.finish(Some(e.to_string())),
             };
-            let frame = Frame {
-                index,
-                t,
-                plane,
-                origin: format!(
-                    "frame {index} at t = {:.3} s of {}",
-                    t.0,
-                    self.path.display()
-                ),
-            };
-            self.pending.push_back(Delivery::Frame(frame));
+            self.pending.push_back(Delivery::Frame(super::video_frame(
+                &self.path, index, t, plane,
+            )));
         }
     }
 

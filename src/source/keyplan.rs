@@ -103,7 +103,7 @@ pub(super) fn plan(
 /// Match a decoded picture at `ticks` to the plan: planned key frames before it that the decoder
 /// returned no picture for are queued on `pending` as unreadable, and the picture's frame index is
 /// returned, or `None` when it is not a planned frame (then it is not delivered).
-pub(super) fn match_planned(
+fn match_planned(
     plan: &mut VecDeque<(i64, u64)>,
     ticks: i64,
     start_pts: i64,
@@ -127,6 +127,85 @@ pub(super) fn match_planned(
             Some(i)
         }
         _ => None,
+    }
+}
+
+/// Which decoded pictures a video source delivers, and as which frame: with a plan, the planned key
+/// frames (skipped ones reported as unreadable); without, every frame `--every` thinning keeps,
+/// counted in presentation order.
+#[derive(Debug)]
+pub(super) struct Picker {
+    thin: Thinner,
+    plan: Option<VecDeque<(i64, u64)>>,
+    start_pts: i64,
+    time_base: (i64, i64),
+    /// Frames accounted for so far: decoded, in a full decode; one past the last planned frame
+    /// matched, with a plan.
+    pub decoded: u64,
+    /// Time of the last of them, s.
+    pub last_t: f64,
+}
+
+impl Picker {
+    pub fn new(
+        every: Option<Seconds>,
+        plan: Option<VecDeque<(i64, u64)>>,
+        start_pts: i64,
+        time_base: (i64, i64),
+    ) -> Self {
+        Self {
+            thin: Thinner::new(every),
+            plan,
+            start_pts,
+            time_base,
+            decoded: 0,
+            last_t: 0.0,
+        }
+    }
+
+    /// Whether only planned key frames are decoded.
+    pub fn key_frames_only(&self) -> bool {
+        self.plan.is_some()
+    }
+
+    /// Whether planned frames are still waiting for their pictures.
+    pub fn planned_left(&self) -> bool {
+        self.plan.as_ref().is_some_and(|p| !p.is_empty())
+    }
+
+    /// The timestamps of the planned frames (none without a plan).
+    #[cfg(feature = "linked-ffmpeg")]
+    pub fn planned_ticks(&self) -> impl Iterator<Item = i64> + '_ {
+        self.plan.iter().flat_map(|p| p.iter().map(|&(pts, _)| pts))
+    }
+
+    /// The time of a picture at `ticks` (of the stream's time base), and its frame index when it is
+    /// delivered (`None`: it is not); planned key frames the decoder gave no picture for are
+    /// queued on `pending` as unreadable.
+    pub fn pick(
+        &mut self,
+        ticks: i64,
+        path: &Path,
+        pending: &mut VecDeque<Delivery>,
+    ) -> (Seconds, Option<u64>) {
+        let t = seconds(ticks, self.start_pts, self.time_base);
+        let index = match self.plan.as_mut() {
+            None => {
+                let i = self.decoded;
+                self.decoded += 1;
+                self.last_t = t.0;
+                self.thin.keep(t).then_some(i)
+            }
+            Some(plan) => {
+                let i = match_planned(plan, ticks, self.start_pts, self.time_base, path, pending);
+                if let Some(i) = i {
+                    self.decoded = i + 1;
+                    self.last_t = t.0;
+                }
+                i
+            }
+        };
+        (t, index)
     }
 }
 

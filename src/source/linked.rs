@@ -11,8 +11,7 @@
 //! packet index shows that a full decode would keep exactly those.
 
 use super::ffmpeg::{limited_range, luma_first};
-use super::keyplan::{self, seconds, PacketFacts};
-use super::thin::Thinner;
+use super::keyplan::{self, PacketFacts, Picker};
 use super::{Delivery, FrameSource, OpenOptions, SourceError, SourceInfo};
 use crate::frame::{Channel, Frame, Plane, Roi};
 use ffmpeg_next as av;
@@ -56,23 +55,18 @@ struct Decoding {
     input: av::format::context::Input,
     stream: usize,
     decoder: av::decoder::Video,
-    start_pts: i64,
-    time_base: (i64, i64),
     channel: Channel,
     layout: Option<Layout>,
     picture: av::frame::Video,
     scaled: av::frame::Video,
     packet: av::Packet,
-    thin: Thinner,
-    /// With key frames only: the frames to keep, and the timestamps of the packets to decode.
-    plan: Option<VecDeque<(i64, u64)>>,
+    /// Which pictures become frames, and their indices.
+    pick: Picker,
+    /// With key frames only: the timestamps of the packets to decode.
     wanted: HashSet<i64>,
     pending: VecDeque<Delivery>,
     spare: Vec<Vec<u8>>,
     stage: Stage,
-    /// Frames decoded so far (their presentation index when key frames only).
-    decoded: u64,
-    last_t: f64,
     packets: u64,
     nb_frames: Option<u64>,
     /// Why the file ends before its index says it does, when planning found out.
@@ -205,10 +199,6 @@ impl Decoding {
             }
             None => (None, None),
         };
-        let wanted = plan
-            .iter()
-            .flat_map(|k| k.iter().map(|&(pts, _)| pts))
-            .collect();
         let crop = opts.crop.filter(|r| r.fits_in(width, height));
         let info = SourceInfo {
             description: super::video_description(
@@ -230,27 +220,23 @@ impl Decoding {
             ),
             crop,
         };
+        let pick = Picker::new(opts.every, plan, start_pts, time_base);
         Ok(Self {
             info,
             path: path.to_path_buf(),
             input,
             stream,
             decoder,
-            start_pts,
-            time_base,
             channel: opts.channel,
             layout: None,
             picture: av::frame::Video::empty(),
             scaled: av::frame::Video::empty(),
             packet: av::Packet::empty(),
-            thin: Thinner::new(opts.every),
-            plan,
-            wanted,
+            wanted: pick.planned_ticks().collect(),
+            pick,
             pending: VecDeque::new(),
             spare: Vec::new(),
             stage: Stage::Reading,
-            decoded: 0,
-            last_t: 0.0,
             packets: 0,
             nb_frames,
             ends_early,
@@ -362,35 +348,12 @@ impl Decoding {
         let Some(ticks) = self.picture.timestamp().or_else(|| self.picture.pts()) else {
             return Err(format!(
                 "the picture after frame {} has no timestamp",
-                self.decoded
+                self.pick.decoded
             ));
         };
-        let t = seconds(ticks, self.start_pts, self.time_base);
-        let index = match self.plan.as_mut() {
-            None => {
-                let i = self.decoded;
-                self.decoded += 1;
-                self.last_t = t.0;
-                if !self.thin.keep(t) {
-                    return Ok(());
-                }
-                i
-            }
-            Some(plan) => match keyplan::match_planned(
-                plan,
-                ticks,
-                self.start_pts,
-                self.time_base,
-                &self.path,
-                &mut self.pending,
-            ) {
-                Some(i) => {
-                    self.decoded = i + 1;
-                    self.last_t = t.0;
-                    i
-                }
-                None => return Ok(()),
-            },
+        let (t, index) = self.pick.pick(ticks, &self.path, &mut self.pending);
+        let Some(index) = index else {
+            return Ok(());
         };
         let (pw, ph) = (
             self.picture.width() as usize,
@@ -411,16 +374,9 @@ impl Decoding {
             ));
         }
         let plane = self.plane()?;
-        self.pending.push_back(Delivery::Frame(Frame {
-            index,
-            t,
-            plane,
-            origin: format!(
-                "frame {index} at t = {:.3} s of {}",
-                t.0,
-                self.path.display()
-            ),
-        }));
+        self.pending.push_back(Delivery::Frame(super::video_frame(
+            &self.path, index, t, plane,
+        )));
         Ok(())
     }
 
@@ -434,7 +390,7 @@ impl Decoding {
                         continue;
                     }
                     self.packets += 1;
-                    if self.plan.is_some()
+                    if self.pick.key_frames_only()
                         && !(self.packet.is_key()
                             && self.packet.pts().is_some_and(|p| self.wanted.contains(&p)))
                     {
@@ -467,8 +423,8 @@ impl Decoding {
     /// saying where decoding stopped and why.
     fn finish(&mut self, fatal: Option<String>) -> Option<Result<Delivery, SourceError>> {
         self.stage = Stage::Done;
-        let missing_planned = self.plan.as_ref().is_some_and(|p| !p.is_empty());
-        let short = if self.plan.is_none() {
+        let missing_planned = self.pick.planned_left();
+        let short = if !self.pick.key_frames_only() {
             keyplan::short_file(self.nb_frames, self.packets)
         } else {
             None
@@ -494,8 +450,8 @@ impl Decoding {
         let message = parts.join("; ");
         Some(Err(SourceError::stopped(
             &self.path,
-            self.decoded,
-            self.last_t,
+            self.pick.decoded,
+            self.pick.last_t,
             message,
         )))
     }
@@ -524,7 +480,7 @@ impl Decoding {
                     self.refused += 1;
                     self.complaint = Some(format!(
                         "the decoder failed after frame {} ({e})",
-                        self.decoded
+                        self.pick.decoded
                     ));
                     if self.stage == Stage::Draining {
                         return self.finish(None);
@@ -584,7 +540,7 @@ impl LinkedSource {
             .name("video decoding".into())
             .spawn(move || match Decoding::open(&path_owned, &opts) {
                 Ok(d) => {
-                    let facts = (d.info.clone(), d.plan.is_some());
+                    let facts = (d.info.clone(), d.pick.key_frames_only());
                     if opened_tx.send(Ok(facts)).is_ok() {
                         d.run(deliveries_tx, spare_rx);
                     }

@@ -220,6 +220,21 @@ pub(crate) fn video_description(
     d
 }
 
+/// A decoded video frame, named for messages as "frame N at t = T s of PATH".
+pub(crate) fn video_frame(
+    path: &Path,
+    index: u64,
+    t: Seconds,
+    plane: crate::frame::Plane,
+) -> Frame {
+    Frame {
+        index,
+        t,
+        plane,
+        origin: format!("frame {index} at t = {:.3} s of {}", t.0, path.display()),
+    }
+}
+
 /// File extensions read as still images.
 pub const IMAGE_EXTENSIONS: [&str; 6] = ["png", "jpg", "jpeg", "tif", "tiff", "bmp"];
 
