@@ -293,28 +293,7 @@ fn variable_frame_rate_times_are_the_presentation_times() {
     }
     let d = tempfile::tempdir().unwrap();
     let n = 12;
-    write_png_frames(d.path(), n, W, H);
-    // Input at 20 fps (time base 1/20 s), re-timed to pts = 2i + 3 floor(i/2): gaps of 0.1 and
-    // 0.25 s alternate.
-    let truth: Vec<f64> = (0..n)
-        .map(|i| (2 * i + 3 * (i / 2)) as f64 / 20.0)
-        .collect();
-    let clip = d.path().join("vfr.mkv");
-    ffmpeg(&[
-        "-framerate",
-        "20",
-        "-i",
-        &d.path().join("img%d.png").to_string_lossy(),
-        "-vf",
-        "setpts=2*N+3*floor(N/2)",
-        "-vsync",
-        "passthrough",
-        "-c:v",
-        "libx264",
-        "-pix_fmt",
-        "yuv420p",
-        &clip.to_string_lossy(),
-    ]);
+    let (clip, truth) = vfr_clip(d.path(), n, W, H);
     let (frames, err) = frames_of(&clip, &opts(VideoDecoder::Ffmpeg));
     assert!(err.is_none(), "{err:?}");
     assert_eq!(frames.len(), n);

@@ -101,6 +101,33 @@ pub fn encode_pngs(dir: &Path, fps: u32, extra: &[&str], out: &Path) {
     ffmpeg(&args);
 }
 
+/// A variable-frame-rate Matroska clip of `n` frames in `dir` and the true presentation time of each.
+/// Input at 20 fps (time base 1/20 s), re-timed to pts = 2i + 3 floor(i/2): gaps of 0.1 and 0.25 s
+/// alternate. Matroska stores milliseconds.
+pub fn vfr_clip(dir: &Path, n: usize, w: usize, h: usize) -> (PathBuf, Vec<f64>) {
+    write_png_frames(dir, n, w, h);
+    let clip = dir.join("vfr.mkv");
+    encode_pngs(
+        dir,
+        20,
+        &[
+            "-vf",
+            "setpts=2*N+3*floor(N/2)",
+            "-vsync",
+            "passthrough",
+            "-c:v",
+            "libx264",
+            "-pix_fmt",
+            "yuv420p",
+        ],
+        &clip,
+    );
+    let truth = (0..n)
+        .map(|i| (2 * i + 3 * (i / 2)) as f64 / 20.0)
+        .collect();
+    (clip, truth)
+}
+
 /// The spot position the project's tracker reports for each plane, in order (fresh tracker per run).
 pub fn track_positions(planes: &[&spotlever::frame::Plane]) -> Vec<(f64, f64)> {
     let mut t = spotlever::spot::Tracker::new(spotlever::spot::SpotConfig::default());
