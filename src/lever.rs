@@ -10,7 +10,7 @@
 //! Both are exact for their geometry; the small-angle form (x - x0) / (2 L) used on a flat screen would be
 //! wrong by about (4/3) theta^2 relative ([`small_angle_error`]).
 
-use crate::setup::ScaleShape;
+use crate::setup::{ScaleShape, Setup};
 use crate::units::Radians;
 
 /// An optical lever: screen distance, foot point and scale shape.
@@ -24,6 +24,15 @@ pub struct Lever {
 }
 
 impl Lever {
+    /// The lever an apparatus file describes (its `[lever]` table; uncertainties are the budget's).
+    pub fn from_setup(setup: &Setup) -> Self {
+        Self {
+            distance_m: setup.lever.screen_distance.value,
+            zero_m: setup.lever.zero.value,
+            shape: setup.lever.scale,
+        }
+    }
+
     /// Twist angle of the mirror for a scale reading `x_m` (metres along the scale axis).
     pub fn angle(&self, x_m: f64) -> Radians {
         let s = (x_m - self.zero_m) / self.distance_m;

@@ -8,6 +8,7 @@
 
 pub mod analysis;
 pub mod calib;
+pub mod error;
 pub mod export;
 pub mod frame;
 pub mod lever;

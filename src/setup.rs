@@ -20,6 +20,7 @@
 //! An optional `[fibre]` table is read by the planner (see [`crate::plan`]).
 //! Unknown keys and units are errors naming the key; physically impossible values are refused.
 
+use crate::error::IoError;
 use crate::units::{parse_quantity, Dimension, Measured, QuantityError};
 use serde::Deserialize;
 use std::collections::BTreeMap;
@@ -81,12 +82,8 @@ pub struct Setup {
 /// What was wrong with a setup file.
 #[derive(Debug, Error)]
 pub enum SetupError {
-    #[error("{path}: {source}")]
-    Io {
-        path: PathBuf,
-        #[source]
-        source: std::io::Error,
-    },
+    #[error(transparent)]
+    Io(#[from] IoError),
     #[error("{path}: {message}")]
     Syntax { path: PathBuf, message: String },
     #[error("{path}: [{table}] {key}: {source}")]
@@ -176,9 +173,11 @@ impl Reader<'_> {
 impl Setup {
     /// Read and check a setup file.
     pub fn load(path: &Path) -> Result<Self, SetupError> {
-        let text = std::fs::read_to_string(path).map_err(|source| SetupError::Io {
-            path: path.to_path_buf(),
-            source,
+        let text = std::fs::read_to_string(path).map_err(|source| {
+            SetupError::Io(IoError {
+                path: path.to_path_buf(),
+                source,
+            })
         })?;
         Self::parse(&text, path)
     }

@@ -4,8 +4,8 @@
 mod analysis_common;
 
 use analysis_common::{run, EXACT_SETUP};
-use spotlever::analysis::lever_of;
 use spotlever::export::track_csv::{TrackRow, TrackWriter};
+use spotlever::lever::Lever;
 use spotlever::spot::{SpotFix, SpotStatus};
 use spotlever::units::{PixelPoint, Radians, ScreenPoint, Seconds};
 use std::path::Path;
@@ -14,7 +14,7 @@ use std::process::Command;
 fn write_track(path: &Path, with_mm: bool) {
     let r = run(5, 3.0, 4.0, 2e-5, 1e-10, 5);
     let setup = analysis_common::exact_setup();
-    let lever = lever_of(&setup);
+    let lever = Lever::from_setup(&setup);
     let mut w = TrackWriter::create(path, with_mm).unwrap();
     for (k, s) in r.samples.iter().enumerate() {
         // A lost-spot stretch: rows without a position.

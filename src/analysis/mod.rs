@@ -203,15 +203,6 @@ pub fn samples_from_track(
     Ok((out, missing))
 }
 
-/// Lever of a setup.
-pub fn lever_of(setup: &Setup) -> Lever {
-    Lever {
-        distance_m: setup.lever.screen_distance.value,
-        zero_m: setup.lever.zero.value,
-        shape: setup.lever.scale,
-    }
-}
-
 fn weighted_mean(v: &[Measured]) -> Option<(Measured, Option<f64>)> {
     if v.is_empty() {
         return None;
@@ -620,7 +611,7 @@ pub fn analyze(
         warnings.push("the equilibria do not alternate as expected for masses moved back and forth: check the events".into());
     }
     let period = Measured::new(period0, 2.0 * PI * omega0.u / omega0.value.powi(2));
-    let lever = lever_of(setup);
+    let lever = Lever::from_setup(setup);
     let half = gravity::half_scale(&lever, deflection.theta_mid, deflection.theta_g);
     let x_mid = 0.5
         * (lever.reading(crate::units::Radians(

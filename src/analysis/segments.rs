@@ -13,7 +13,8 @@
 //! Moves closer than one period to the ends of the trace, or to each other, are not found.
 //! [`refine_move`] then sharpens each time with the exact step response of the oscillator.
 
-use std::path::{Path, PathBuf};
+use crate::error::{IoError, LineError};
+use std::path::Path;
 
 /// A row of an events file: a segment starts at `t` (s).
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -25,36 +26,32 @@ pub struct Event {
 /// Problems reading an events file.
 #[derive(Debug, thiserror::Error)]
 pub enum EventsError {
-    #[error("{path}: {source}")]
-    Io {
-        path: PathBuf,
-        #[source]
-        source: std::io::Error,
-    },
-    #[error("{path}, line {line}: {message}")]
-    Parse {
-        path: PathBuf,
-        line: usize,
-        message: String,
-    },
+    #[error(transparent)]
+    Io(#[from] IoError),
+    #[error(transparent)]
+    Parse(#[from] LineError),
 }
 
 /// Read `t_s,label` rows (a header line `t_s,label` first; `#` lines and blank lines skipped). Times
 /// must increase.
 pub fn read_events(path: &Path) -> Result<Vec<Event>, EventsError> {
-    let text = std::fs::read_to_string(path).map_err(|source| EventsError::Io {
-        path: path.to_path_buf(),
-        source,
+    let text = std::fs::read_to_string(path).map_err(|source| {
+        EventsError::Io(IoError {
+            path: path.to_path_buf(),
+            source,
+        })
     })?;
     parse_events(&text, path)
 }
 
 /// Parse events text; `path` is only used in messages.
 pub fn parse_events(text: &str, path: &Path) -> Result<Vec<Event>, EventsError> {
-    let err = |line: usize, message: String| EventsError::Parse {
-        path: path.to_path_buf(),
-        line,
-        message,
+    let err = |line: usize, message: String| {
+        EventsError::Parse(LineError {
+            path: path.to_path_buf(),
+            line,
+            message,
+        })
     };
     let mut out: Vec<Event> = Vec::new();
     let mut header_seen = false;

@@ -33,7 +33,7 @@ pub struct AnalyzeArgs {
 pub fn run(args: AnalyzeArgs) -> anyhow::Result<()> {
     let setup = Setup::load(&args.setup)?;
     let track = track_csv::read_track(&args.track)?;
-    let lever = analysis::lever_of(&setup);
+    let lever = spotlever::lever::Lever::from_setup(&setup);
     let (samples, without_position) = analysis::samples_from_track(&track, &lever)
         .with_context(|| format!("{}", args.track.display()))?;
     let events = match &args.events {

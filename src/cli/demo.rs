@@ -118,7 +118,8 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
     let setup = Setup::load(&data.join("setup.toml"))?;
     let events = read_events(&data.join("events.csv"))?;
     let track = read_track(&track_path)?;
-    let (samples, missing) = analysis::samples_from_track(&track, &analysis::lever_of(&setup))?;
+    let (samples, missing) =
+        analysis::samples_from_track(&track, &spotlever::lever::Lever::from_setup(&setup))?;
     let a = analysis::analyze(&samples, &setup, Some(&events), &AnalysisOptions::default())?;
     let results = args.out.join("analysis");
     super::analyze::write_outputs(&results, &samples, &a)?;

@@ -4,6 +4,7 @@
 //! Columns: `frame,t_s,x_px,y_px,peak,integral,width_px,saturated_px,snr,status`, then `x_mm,y_mm` when a
 //! calibration was used. A frame without a position has empty position cells.
 
+use crate::error::{IoError, LineError};
 use crate::spot::{SpotFix, SpotStatus};
 use crate::units::{PixelPoint, ScreenPoint, Seconds};
 use std::fs::File;
@@ -44,18 +45,10 @@ pub enum TrackFileError {
         #[source]
         source: std::io::Error,
     },
-    #[error("{path}: {source}")]
-    Io {
-        path: PathBuf,
-        #[source]
-        source: std::io::Error,
-    },
-    #[error("{path}, line {line}: {message}")]
-    Parse {
-        path: PathBuf,
-        line: usize,
-        message: String,
-    },
+    #[error(transparent)]
+    Io(#[from] IoError),
+    #[error(transparent)]
+    Parse(#[from] LineError),
 }
 
 /// Writes rows as they come; each row is flushed to the OS at most `flush_every` after it was written
@@ -113,10 +106,10 @@ impl TrackWriter {
     }
 
     fn io(&self, source: std::io::Error) -> TrackFileError {
-        TrackFileError::Io {
+        TrackFileError::Io(IoError {
             path: self.path.clone(),
             source,
-        }
+        })
     }
 
     pub fn write(&mut self, row: &TrackRow) -> Result<(), TrackFileError> {
@@ -182,15 +175,19 @@ fn format_row(row: &TrackRow, with_mm: bool) -> String {
 /// Read a whole track file. Comment lines (`#`) are skipped; a truncated last line (a run killed while
 /// writing) is ignored with `truncated_tail = true`.
 pub fn read_track(path: &Path) -> Result<TrackFile, TrackFileError> {
-    let file = File::open(path).map_err(|source| TrackFileError::Io {
-        path: path.to_path_buf(),
-        source,
+    let file = File::open(path).map_err(|source| {
+        TrackFileError::Io(IoError {
+            path: path.to_path_buf(),
+            source,
+        })
     })?;
     let reader = BufReader::new(file);
-    let perr = |line: usize, message: String| TrackFileError::Parse {
-        path: path.to_path_buf(),
-        line,
-        message,
+    let perr = |line: usize, message: String| {
+        TrackFileError::Parse(LineError {
+            path: path.to_path_buf(),
+            line,
+            message,
+        })
     };
     let mut lines = reader.lines().enumerate();
     let header = loop {
@@ -202,9 +199,11 @@ pub fn read_track(path: &Path) -> Result<TrackFile, TrackFileError> {
                 ))
             }
             Some((i, l)) => {
-                let l = l.map_err(|source| TrackFileError::Io {
-                    path: path.to_path_buf(),
-                    source,
+                let l = l.map_err(|source| {
+                    TrackFileError::Io(IoError {
+                        path: path.to_path_buf(),
+                        source,
+                    })
                 })?;
                 if l.trim().is_empty() || l.starts_with('#') {
                     continue;
@@ -244,9 +243,11 @@ pub fn read_track(path: &Path) -> Result<TrackFile, TrackFileError> {
     let all: Vec<(usize, String)> = lines
         .map(|(i, l)| l.map(|l| (i + 1, l)))
         .collect::<Result<_, _>>()
-        .map_err(|source| TrackFileError::Io {
-            path: path.to_path_buf(),
-            source,
+        .map_err(|source| {
+            TrackFileError::Io(IoError {
+                path: path.to_path_buf(),
+                source,
+            })
         })?;
     let n = all.len();
     for (k, (line_no, line)) in all.into_iter().enumerate() {

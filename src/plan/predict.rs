@@ -184,11 +184,7 @@ pub fn predict(
     let mut warnings = Vec::new();
 
     // Pixels and noise.
-    let lever = Lever {
-        distance_m: setup.lever.screen_distance.value,
-        zero_m: setup.lever.zero.value,
-        shape: setup.lever.scale,
-    };
+    let lever = Lever::from_setup(setup);
     let mut spot_travel_px = None;
     let mut px_per_mm = None;
     if let Some(cal) = &options.calibration {

@@ -23,6 +23,7 @@ pub mod session;
 pub mod trace;
 pub mod view;
 
+use crate::error::IoError;
 use crate::export::track_csv::TrackFileError;
 use crate::source::SourceError;
 use std::path::PathBuf;
@@ -37,12 +38,8 @@ pub enum RecordError {
     NotARunFolder { path: PathBuf },
     #[error("{path} does not hold a run to continue ({reason}); drop --append to start a new run")]
     NothingToAppend { path: PathBuf, reason: String },
-    #[error("{path}: {source}")]
-    Io {
-        path: PathBuf,
-        #[source]
-        source: std::io::Error,
-    },
+    #[error(transparent)]
+    Io(#[from] IoError),
     #[error("{path}: {message}")]
     Metadata { path: PathBuf, message: String },
     #[error(transparent)]
@@ -66,6 +63,6 @@ pub enum RecordError {
 impl RecordError {
     pub(crate) fn io(path: impl Into<PathBuf>) -> impl FnOnce(std::io::Error) -> RecordError {
         let path = path.into();
-        move |source| RecordError::Io { path, source }
+        move |source| RecordError::Io(IoError { path, source })
     }
 }

@@ -16,6 +16,7 @@
 
 use super::keyplan::{self, KeyFramePlan, PacketFacts, Picker};
 use super::{Delivery, FrameSource, OpenOptions, SourceError, SourceInfo};
+use crate::error::IoError;
 use crate::frame::{Channel, Frame, Plane, PlaneSizeError, Roi};
 use crate::units::Seconds;
 use std::collections::VecDeque;
@@ -252,9 +253,11 @@ fn plan_key_frames(
         .stdout(Stdio::piped())
         .stderr(Stdio::null())
         .spawn()
-        .map_err(|source| SourceError::Io {
-            path: path.display().to_string(),
-            source,
+        .map_err(|source| {
+            SourceError::Io(IoError {
+                path: path.to_path_buf(),
+                source,
+            })
         })?;
     let Some(out) = child.stdout.take() else {
         return Ok(None);

@@ -9,6 +9,7 @@
 use super::annexb::{push_nal, slice_kind, split_length_prefixed, SliceKind};
 use super::thin::Thinner;
 use super::{Delivery, FrameSource, OpenOptions, SourceError, SourceInfo, INSTALL_FFMPEG};
+use crate::error::IoError;
 use crate::frame::{Channel, Frame};
 use crate::units::Seconds;
 use openh264::decoder::Decoder;
@@ -137,9 +138,11 @@ impl BuiltinH264Source {
         let file = File::open(path).map_err(|e| SourceError::from_io(path, e))?;
         let size = file
             .metadata()
-            .map_err(|source| SourceError::Io {
-                path: shown.clone(),
-                source,
+            .map_err(|source| {
+                SourceError::Io(IoError {
+                    path: shown.clone().into(),
+                    source,
+                })
             })?
             .len();
         let needs = |codec: String, why: &str| {

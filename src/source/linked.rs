@@ -13,6 +13,7 @@
 use super::ffmpeg::{limited_range, luma_first};
 use super::keyplan::{self, PacketFacts, Picker};
 use super::{Delivery, FrameSource, OpenOptions, SourceError, SourceInfo};
+use crate::error::IoError;
 use crate::frame::{Channel, Frame, Plane, Roi};
 use ffmpeg_next as av;
 use std::collections::{HashSet, VecDeque};
@@ -549,9 +550,11 @@ impl LinkedSource {
                     let _ = opened_tx.send(Err(e));
                 }
             })
-            .map_err(|e| SourceError::Io {
-                path: path.display().to_string(),
-                source: e,
+            .map_err(|e| {
+                SourceError::Io(IoError {
+                    path: path.to_path_buf(),
+                    source: e,
+                })
             })?;
         let (info, key_frames_only) = match opened_rx.recv() {
             Ok(r) => r?,

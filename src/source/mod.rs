@@ -7,6 +7,7 @@
 
 pub mod replay;
 
+use crate::error::IoError;
 use crate::frame::{Channel, Frame, Roi};
 use crate::units::Seconds;
 use std::path::{Path, PathBuf};
@@ -104,12 +105,8 @@ pub enum SourceError {
         codec: String,
         advice: String,
     },
-    #[error("{path}: {source}")]
-    Io {
-        path: String,
-        #[source]
-        source: std::io::Error,
-    },
+    #[error(transparent)]
+    Io(#[from] IoError),
 }
 
 impl SourceError {
@@ -136,7 +133,10 @@ impl SourceError {
         let path = path.display().to_string();
         match source.kind() {
             std::io::ErrorKind::NotFound => SourceError::Missing { path },
-            _ => SourceError::Io { path, source },
+            _ => SourceError::Io(IoError {
+                path: path.into(),
+                source,
+            }),
         }
     }
 }

@@ -9,6 +9,7 @@ use super::pixels::plane_from_image;
 use super::thin::Thinner;
 use super::times::read_times;
 use super::{is_image_path, Delivery, FrameSource, OpenOptions, SourceError, SourceInfo};
+use crate::error::IoError;
 use crate::frame::{Channel, Frame};
 use crate::units::Seconds;
 use std::path::{Path, PathBuf};
@@ -34,15 +35,19 @@ fn list_files(path: &Path) -> Result<(Vec<PathBuf>, PathBuf), SourceError> {
     let folder: PathBuf;
     if path.is_dir() {
         folder = path.to_path_buf();
-        let rd = std::fs::read_dir(path).map_err(|source| SourceError::Io {
-            path: shown.clone(),
-            source,
+        let rd = std::fs::read_dir(path).map_err(|source| {
+            SourceError::Io(IoError {
+                path: shown.clone().into(),
+                source,
+            })
         })?;
         files = Vec::new();
         for e in rd {
-            let e = e.map_err(|source| SourceError::Io {
-                path: shown.clone(),
-                source,
+            let e = e.map_err(|source| {
+                SourceError::Io(IoError {
+                    path: shown.clone().into(),
+                    source,
+                })
             })?;
             let p = e.path();
             if p.is_file() && is_image_path(&p) {
