@@ -19,4 +19,5 @@ pub mod setup;
 pub mod source;
 pub mod spot;
 pub mod synth;
+pub mod track;
 pub mod units;

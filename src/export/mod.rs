@@ -4,4 +4,3 @@ pub mod angle_csv;
 pub mod report_svg;
 pub mod result_json;
 pub mod segments_csv;
-pub mod track_csv;
