@@ -6,7 +6,6 @@
 //! SPOTLEVER_LIVE_SIZE (WxH of the long run, default 640x360), SPOTLEVER_LIVE_SKIP_MEMORY=1 to skip it.
 
 use criterion::{criterion_group, Criterion};
-use spotlever::export::track_csv::TrackWriter;
 use spotlever::frame::{Channel, Frame, Plane};
 use spotlever::record::feed::{OnFault, Opener};
 use spotlever::record::input::Controls;
@@ -18,6 +17,7 @@ use spotlever::source::replay::{Pace, ReplaySource};
 use spotlever::source::{Delivery, FrameSource, SourceError, SourceInfo};
 use spotlever::spot::SpotConfig;
 use spotlever::synth::{render_flat_spot, FlatSpot, Sensor};
+use spotlever::track::TrackWriter;
 use spotlever::units::{PixelPoint, Seconds};
 use std::sync::{Arc, Mutex};
 use std::time::{Duration, Instant};

@@ -2,9 +2,9 @@
 //!
 //! The modules follow the data's path, one stage each:
 //! [`source`] (frames) → [`spot`] (subpixel spot) → [`calib`] (pixels to screen millimetres) →
-//! [`lever`] (twist angle) → [`analysis`] (period, segments, G, uncertainty) → [`export`] (CSV, JSON,
-//! plots). [`synth`] renders scenes with known truth; [`plan`] predicts what a design will show;
-//! [`record`] runs the live loop.
+//! [`track`] (one row per frame, the track file) → [`lever`] (twist angle) → [`analysis`] (period,
+//! segments, G, uncertainty) → [`export`] (result CSV, JSON, plots). [`synth`] renders scenes with
+//! known truth; [`plan`] predicts what a design will show; [`record`] runs the live loop.
 
 pub mod analysis;
 pub mod calib;
@@ -19,4 +19,5 @@ pub mod setup;
 pub mod source;
 pub mod spot;
 pub mod synth;
+pub mod track;
 pub mod units;

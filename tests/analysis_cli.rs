@@ -4,9 +4,9 @@
 mod analysis_common;
 
 use analysis_common::{run, EXACT_SETUP};
-use spotlever::export::track_csv::{TrackRow, TrackWriter};
 use spotlever::lever::Lever;
 use spotlever::spot::{SpotFix, SpotStatus};
+use spotlever::track::{TrackRow, TrackWriter};
 use spotlever::units::{PixelPoint, Radians, ScreenPoint, Seconds};
 use std::path::Path;
 use std::process::Command;

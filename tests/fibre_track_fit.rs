@@ -1,10 +1,10 @@
 //! A fibre trial whose period is fitted from a track CSV of a free swing.
 
-use spotlever::export::track_csv::{TrackRow, TrackWriter};
 use spotlever::plan::fibre::{kappa_of, SectionValues};
 use spotlever::plan::trial::{evaluate, parse_trials, period_from_track, PeriodSource};
 use spotlever::spot::{SpotFix, SpotStatus};
 use spotlever::synth::motion::{MassPosition, MotionConfig, Trajectory};
+use spotlever::track::{TrackRow, TrackWriter};
 use spotlever::units::{PixelPoint, ScreenPoint, Seconds};
 
 #[test]

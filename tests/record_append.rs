@@ -4,9 +4,9 @@
 mod record_support;
 
 use record_support::*;
-use spotlever::export::track_csv::read_track;
 use spotlever::record::run_dir::read_meta;
 use spotlever::source::{self, Delivery, OpenOptions};
+use spotlever::track::read_track;
 
 #[test]
 fn append_continues_times_and_force_replaces() {

@@ -4,7 +4,7 @@
 mod record_support;
 
 use record_support::*;
-use spotlever::export::track_csv::read_track;
+use spotlever::track::read_track;
 use std::io::Write;
 use std::time::Duration;
 

@@ -4,8 +4,8 @@
 mod record_support;
 
 use record_support::*;
-use spotlever::export::track_csv::read_track;
 use spotlever::record::run_dir::read_meta;
+use spotlever::track::read_track;
 use std::time::Duration;
 
 #[test]

@@ -4,8 +4,8 @@
 mod source_support;
 
 use source_support::*;
-use spotlever::export::track_csv::read_track;
 use spotlever::spot::SpotStatus;
+use spotlever::track::read_track;
 use std::path::Path;
 use std::process::{Command, Output};
 

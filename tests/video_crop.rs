@@ -7,9 +7,9 @@ mod source_support;
 
 use source_support::*;
 use spotlever::frame::{Channel, Frame, Roi};
-use spotlever::source::drive::run_tracker;
 use spotlever::source::{open, OpenOptions, SourceError, VideoDecoder};
 use spotlever::spot::{SpotConfig, Tracker};
+use spotlever::track::{run_tracker, ScreenMap};
 use std::path::Path;
 use std::process::Command;
 
@@ -135,6 +135,7 @@ fn run(path: &Path, crop: Option<Roi>, finder_roi: Option<Roi>) -> Vec<(f64, f64
     run_tracker::<SourceError>(
         src.as_mut(),
         &mut tracker,
+        &ScreenMap::none(),
         |row, _: Option<&Frame>| {
             let p = row
                 .fix

@@ -22,10 +22,10 @@ pub mod uncertainty;
 
 pub use segments::{read_events, Event, EventsError};
 
-use crate::export::track_csv::TrackFile;
 use crate::lever::Lever;
 use crate::physics;
 use crate::setup::Setup;
+use crate::track::TrackFile;
 use crate::units::Measured;
 use damped::{fit_damped, fit_fixed_frequency, DampedFit, GAMMA, X_EQ};
 use std::f64::consts::PI;

@@ -128,3 +128,26 @@ impl Calibration {
         }
     }
 }
+
+/// A calibration fitted from point pairs, with the fit it came from (for its printed report).
+#[derive(Debug, Clone)]
+pub struct FittedCalibration {
+    pub calibration: Calibration,
+    pub fit: homography::HomographyFit,
+}
+
+/// Fit the screen homography to `pairs` (from a pairs file or from [`grid::detect`]), leaving out pairs
+/// that disagree by more than `opts.threshold_px`, and make the calibration of `source_image`, an image
+/// of `image_width` x `image_height` px. Used by `spotlever calibrate` and the demo alike.
+pub fn fit_calibration(
+    pairs: &[homography::PointPair],
+    opts: &homography::RobustOptions,
+    image_width: u32,
+    image_height: u32,
+    source_image: &str,
+    notes: &str,
+) -> Result<FittedCalibration, CalibError> {
+    let fit = homography::fit_robust(pairs, opts)?;
+    let calibration = Calibration::from_fit(&fit, image_width, image_height, source_image, notes);
+    Ok(FittedCalibration { calibration, fit })
+}

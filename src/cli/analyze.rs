@@ -4,9 +4,10 @@
 use anyhow::Context;
 use clap::Args;
 use spotlever::analysis::{self, AnalysisOptions};
-use spotlever::export::{angle_csv, report_svg, result_json, segments_csv, track_csv};
+use spotlever::export::{angle_csv, report_svg, result_json, segments_csv};
 use spotlever::physics::G_CODATA_2018;
 use spotlever::setup::Setup;
+use spotlever::track::read_track;
 use std::path::{Path, PathBuf};
 
 #[derive(Debug, Args)]
@@ -32,7 +33,7 @@ pub struct AnalyzeArgs {
 
 pub fn run(args: AnalyzeArgs) -> anyhow::Result<()> {
     let setup = Setup::load(&args.setup)?;
-    let track = track_csv::read_track(&args.track)?;
+    let track = read_track(&args.track)?;
     let lever = spotlever::lever::Lever::from_setup(&setup);
     let (samples, without_position) = analysis::samples_from_track(&track, &lever)
         .with_context(|| format!("{}", args.track.display()))?;

@@ -3,9 +3,9 @@
 
 use anyhow::Context;
 use clap::Args;
-use spotlever::calib::homography::{fit_robust, RobustOptions};
+use spotlever::calib::homography::RobustOptions;
 use spotlever::calib::report::FitSummary;
-use spotlever::calib::{grid, overlay, pairs, Calibration};
+use spotlever::calib::{fit_calibration, grid, overlay, pairs};
 use spotlever::units::PixelPoint;
 use std::path::PathBuf;
 
@@ -96,13 +96,13 @@ pub fn run(args: CalibrateArgs) -> anyhow::Result<()> {
         threshold_px: args.reject_px,
         ..RobustOptions::default()
     };
-    let fit = fit_robust(&pairs, &opts)?;
-    let calib = Calibration::from_fit(&fit, width, height, &name, &args.notes);
-    print!("{}", FitSummary::new(&fit, &pairs, &calib));
+    let fitted = fit_calibration(&pairs, &opts, width, height, &name, &args.notes)?;
+    let (fit, calib) = (&fitted.fit, &fitted.calibration);
+    print!("{}", FitSummary::new(fit, &pairs, calib));
     calib.save(&args.out)?;
     println!("wrote {}", args.out.display());
     if let Some(o) = &args.overlay {
-        overlay::write(o, &img.to_rgb8(), &calib, &pairs, &fit.used, pitch)?;
+        overlay::write(o, &img.to_rgb8(), calib, &pairs, &fit.used, pitch)?;
         println!("wrote {}", o.display());
     }
     Ok(())

@@ -5,13 +5,12 @@
 use anyhow::Context;
 use clap::Args;
 use spotlever::analysis::{self, read_events, AnalysisOptions};
-use spotlever::calib::homography::{fit_robust, RobustOptions};
-use spotlever::calib::{grid, Calibration};
-use spotlever::export::track_csv::{read_track, TrackWriter};
+use spotlever::calib::homography::RobustOptions;
+use spotlever::calib::{fit_calibration, grid, Calibration};
 use spotlever::physics::{G_CODATA_2018, G_CODATA_2018_U};
 use spotlever::setup::Setup;
-use spotlever::source::{drive::run_tracker, open, OpenOptions};
-use spotlever::spot::{SpotConfig, Tracker};
+use spotlever::source::{open, OpenOptions};
+use spotlever::track::{read_track, spot_config_for, track_to_file, RunSummary, ScreenMap};
 use std::path::{Path, PathBuf};
 
 /// Grid pitch of the demo screen, mm.
@@ -49,69 +48,12 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
 
     // 1. Calibration.
     let calib_path = args.out.join("calibration.toml");
-    let bundled = Path::new(env!("CARGO_MANIFEST_DIR")).join("calib/demo-screen.toml");
-    let given = args
-        .calib
-        .clone()
-        .or_else(|| bundled.is_file().then_some(bundled));
-    let calib = match &given {
-        Some(p) => {
-            println!("calibration: {}", p.display());
-            Calibration::load(p)?
-        }
-        None => {
-            let screen = data.join("screen.png");
-            let img = image::open(&screen)
-                .with_context(|| format!("cannot read {}", screen.display()))?;
-            let found = grid::detect(&img.to_luma32f(), "screen.png", DEMO_PITCH_MM, None)
-                .context(
-                    "calibrating the demo screen image; pass a calibration with --calib FILE",
-                )?;
-            let fit = fit_robust(&found.pairs, &RobustOptions::default())?;
-            let c = Calibration::from_fit(
-                &fit,
-                img.width(),
-                img.height(),
-                "screen.png",
-                "spotlever demo: grid of 10 mm pitch",
-            );
-            println!(
-                "calibration: {} grid intersections, rms {:.3} px ({:.3} mm), {:.2} px/mm at the centre",
-                found.pairs.len(),
-                c.rms_px,
-                c.rms_mm,
-                c.px_per_mm_at_centre()
-            );
-            c
-        }
-    };
+    let calib = demo_calibration(args.calib.clone(), data)?;
     calib.save(&calib_path)?;
 
     // 2. Track.
-    let frames = data.join("frames");
-    let mut source = open(&frames, &OpenOptions::default())?;
-    let info = source.info().clone();
-    calib
-        .check_image_size(info.width as u32, info.height as u32)
-        .with_context(|| format!("the calibration does not fit {}", info.description))?;
     let track_path = args.out.join("track.csv");
-    let mut writer = TrackWriter::create(&track_path, true)?;
-    let mut tracker = Tracker::new(SpotConfig::default());
-    let summary = run_tracker::<anyhow::Error>(
-        source.as_mut(),
-        &mut tracker,
-        |row, _| {
-            let mut row = row.clone();
-            if let Some(p) = row.fix.position {
-                row.screen = Some(calib.to_screen(p));
-            }
-            writer
-                .write(&row)
-                .with_context(|| format!("writing frame {}", row.frame))
-        },
-        |_| {},
-    )?;
-    writer.flush()?;
+    let summary = demo_track(data, calib, &track_path)?;
     println!("tracking: {summary}");
 
     // 3. Analyze.
@@ -146,4 +88,50 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
         results.display()
     );
     Ok(())
+}
+
+/// The calibration given, else the bundled one, else one fitted afresh to the demo screen image.
+fn demo_calibration(given: Option<PathBuf>, data: &Path) -> anyhow::Result<Calibration> {
+    let bundled = Path::new(env!("CARGO_MANIFEST_DIR")).join("calib/demo-screen.toml");
+    let given = given.or_else(|| bundled.is_file().then_some(bundled));
+    if let Some(p) = &given {
+        println!("calibration: {}", p.display());
+        return Ok(Calibration::load(p)?);
+    }
+    let screen = data.join("screen.png");
+    let img = image::open(&screen).with_context(|| format!("cannot read {}", screen.display()))?;
+    let found = grid::detect(&img.to_luma32f(), "screen.png", DEMO_PITCH_MM, None)
+        .context("calibrating the demo screen image; pass a calibration with --calib FILE")?;
+    let c = fit_calibration(
+        &found.pairs,
+        &RobustOptions::default(),
+        img.width(),
+        img.height(),
+        "screen.png",
+        "spotlever demo: grid of 10 mm pitch",
+    )?
+    .calibration;
+    println!(
+        "calibration: {} grid intersections, rms {:.3} px ({:.3} mm), {:.2} px/mm at the centre",
+        found.pairs.len(),
+        c.rms_px,
+        c.rms_mm,
+        c.px_per_mm_at_centre()
+    );
+    Ok(c)
+}
+
+/// Track the demo frames with `calib` into `track_path`, as `spotlever track --calib` does.
+fn demo_track(data: &Path, calib: Calibration, track_path: &Path) -> anyhow::Result<RunSummary> {
+    let mut source = open(&data.join("frames"), &OpenOptions::default())?;
+    let info = source.info().clone();
+    let screen = ScreenMap::for_frames(calib, info.width, info.height)
+        .with_context(|| format!("the calibration does not fit {}", info.description))?;
+    Ok(track_to_file(
+        source.as_mut(),
+        spot_config_for(&info, None),
+        &screen,
+        track_path,
+        |_| {},
+    )?)
 }

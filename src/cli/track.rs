@@ -4,11 +4,10 @@ use anyhow::Context;
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use spotlever::calib::Calibration;
-use spotlever::export::track_csv::TrackWriter;
 use spotlever::frame::Channel;
-use spotlever::source::drive::run_tracker;
 use spotlever::source::{open, OpenOptions, SourceInfo, VideoDecoder};
-use spotlever::spot::{Roi, SpotConfig, Tracker};
+use spotlever::spot::Roi;
+use spotlever::track::{spot_config_for, track_to_file, ScreenMap};
 use spotlever::units::Seconds;
 use std::io::IsTerminal;
 use std::path::PathBuf;
@@ -106,44 +105,21 @@ pub fn run(args: TrackArgs) -> anyhow::Result<()> {
     if let Some(roi) = &args.roi {
         check_roi(roi, &info)?;
     }
-    // Where the source already cut the pictures to the ROI (ffmpeg does, so fewer bytes cross the
-    // pipe), the finder uses all of each plane; otherwise it looks inside the ROI itself.
-    let finder_roi = if info.crop.is_some() { None } else { args.roi };
     eprintln!("reading {}", info.description);
-    let calib = match &args.calib {
-        None => None,
-        Some(p) => {
-            let c = Calibration::load(p)?;
-            c.check_image_size(info.width as u32, info.height as u32)
-                .with_context(|| {
-                    format!("{} cannot be used for {}", p.display(), info.description)
-                })?;
-            Some(c)
-        }
+    let screen = match &args.calib {
+        None => ScreenMap::none(),
+        Some(p) => ScreenMap::for_frames(Calibration::load(p)?, info.width, info.height)
+            .with_context(|| format!("{} cannot be used for {}", p.display(), info.description))?,
     };
-    let config = SpotConfig {
-        roi: finder_roi,
-        ..SpotConfig::default()
-    };
-    let mut tracker = Tracker::new(config);
-    let mut writer = TrackWriter::create(&args.out, calib.is_some())?;
     let bar = progress_bar(info.expected_frames);
-    let summary = run_tracker::<anyhow::Error>(
+    let summary = track_to_file(
         source.as_mut(),
-        &mut tracker,
-        |row, _| {
-            let mut row = row.clone();
-            if let (Some(c), Some(p)) = (&calib, row.fix.position) {
-                row.screen = Some(c.to_screen(p));
-            }
-            writer
-                .write(&row)
-                .with_context(|| format!("writing frame {}", row.frame))
-        },
+        spot_config_for(&info, args.roi),
+        &screen,
+        &args.out,
         |s| bar.set_position(s.frames),
     )?;
     bar.finish_and_clear();
-    writer.flush()?;
     for note in &summary.unreadable_notes {
         eprintln!("unreadable: {note}");
     }

@@ -225,8 +225,8 @@ pub fn write_csv(path: &Path, results: &[TrialResult]) -> Result<(), PlanError> 
 pub fn period_from_track(path: &Path) -> Result<Measured, PlanError> {
     use crate::analysis::{damped, period};
     let shown = path.display();
-    let track = crate::export::track_csv::read_track(path)
-        .map_err(|e| PlanError::Input(format!("{shown}: {e}")))?;
+    let track =
+        crate::track::read_track(path).map_err(|e| PlanError::Input(format!("{shown}: {e}")))?;
     let mut t = Vec::new();
     let mut y = Vec::new();
     for r in &track.rows {

@@ -8,9 +8,9 @@ use super::keep::FrameKeeper;
 use super::trace::{RateMeter, TraceHistory};
 use super::RecordError;
 use crate::calib::Calibration;
-use crate::export::track_csv::{TrackRow, TrackWriter};
 use crate::source::Delivery;
 use crate::spot::{SpotConfig, SpotFix, SpotStatus, Tracker};
+use crate::track::{ScreenMap, TrackRow, TrackWriter};
 use crate::units::{ScreenPoint, Seconds};
 use std::time::Duration;
 
@@ -80,7 +80,7 @@ pub struct LiveSetup {
 /// The live loop's per-frame state.
 pub struct LiveLoop {
     tracker: Tracker,
-    calibration: Option<Calibration>,
+    screen: ScreenMap,
     track: TrackWriter,
     keeper: Option<FrameKeeper>,
     frame_base: u64,
@@ -102,7 +102,7 @@ impl LiveLoop {
         track.set_flush_interval(Duration::from_millis(250));
         Self {
             tracker: Tracker::new(setup.spot),
-            calibration: setup.calibration,
+            screen: ScreenMap::new(setup.calibration),
             track,
             keeper: setup.keeper,
             frame_base: setup.frame_base,
@@ -129,14 +129,7 @@ impl LiveLoop {
         let (fix, screen) = match &delivery {
             Delivery::Frame(f) => {
                 let fix = self.tracker.process(&f.plane);
-                let screen = match (&self.calibration, fix.position) {
-                    (Some(c), Some(p)) => Some(c.to_screen(p)).filter(|s| {
-                        // A point on the homography's horizon has no screen position.
-                        s.x_mm.is_finite() && s.y_mm.is_finite()
-                    }),
-                    _ => None,
-                };
-                (fix, screen)
+                (fix, self.screen.map_opt(fix.position))
             }
             Delivery::Unreadable { .. } => {
                 (SpotFix::without_position(SpotStatus::Unreadable), None)
@@ -164,7 +157,7 @@ impl LiveLoop {
         c.last_t = Some(t);
         let shown = match (screen, fix.position) {
             (Some(s), _) => Some(s.x_mm),
-            (None, Some(p)) if self.calibration.is_none() => Some(p.x),
+            (None, Some(p)) if !self.screen.has_mm() => Some(p.x),
             _ => None,
         };
         if let Some(v) = shown {
@@ -253,7 +246,7 @@ impl LiveLoop {
         self.keeper.as_ref().map_or(0, FrameKeeper::kept)
     }
     pub fn has_mm(&self) -> bool {
-        self.calibration.is_some()
+        self.screen.has_mm()
     }
     /// Seconds added to the source's times (known once the first frame came).
     pub fn offset_s(&self) -> Option<f64> {

@@ -24,8 +24,8 @@ pub mod trace;
 pub mod view;
 
 use crate::error::IoError;
-use crate::export::track_csv::TrackFileError;
 use crate::source::SourceError;
+use crate::track::TrackFileError;
 use std::path::PathBuf;
 use thiserror::Error;
 

@@ -7,7 +7,7 @@
 //! whole through a temporary file and a rename, so a kill leaves either the old or the new version.
 
 use super::RecordError;
-use crate::export::track_csv::read_track;
+use crate::track::read_track;
 use serde::{Deserialize, Serialize};
 use std::fs::{self, OpenOptions};
 use std::io::{Read, Seek, SeekFrom};

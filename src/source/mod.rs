@@ -14,7 +14,6 @@ use std::path::{Path, PathBuf};
 use thiserror::Error;
 
 mod annexb;
-pub mod drive;
 mod ffmpeg;
 mod h264;
 mod keyplan;
