@@ -25,7 +25,23 @@ pub fn render(
     grid_pitch_mm: f64,
 ) -> RgbImage {
     let mut img = base.clone();
-    // Extent of the used points on the screen, widened by one pitch.
+    let (x0, x1, y0, y1) = used_extent(pairs, used);
+    let pitch = if grid_pitch_mm > 0.0 {
+        grid_pitch_mm
+    } else {
+        nice_pitch((x1 - x0).max(y1 - y0) / 10.0)
+    };
+    if x0 <= x1 && y0 <= y1 && pitch.is_finite() && pitch > 0.0 {
+        draw_grid(&mut img, calib, (x0, x1, y0, y1), pitch);
+        draw_axes(&mut img, calib, 3.0 * pitch);
+    }
+    draw_points(&mut img, pairs, used);
+    img
+}
+
+/// Extent of the used points on the screen, mm: (x min, x max, y min, y max); empty (min > max) when
+/// none is used.
+fn used_extent(pairs: &[PointPair], used: &[usize]) -> (f64, f64, f64, f64) {
     let (mut x0, mut x1, mut y0, mut y1) = (f64::MAX, f64::MIN, f64::MAX, f64::MIN);
     for &i in used {
         let s = pairs[i].screen;
@@ -34,73 +50,72 @@ pub fn render(
         y0 = y0.min(s.y_mm);
         y1 = y1.max(s.y_mm);
     }
-    let pitch = if grid_pitch_mm > 0.0 {
-        grid_pitch_mm
-    } else {
-        nice_pitch((x1 - x0).max(y1 - y0) / 10.0)
-    };
-    if x0 <= x1 && y0 <= y1 && pitch.is_finite() && pitch > 0.0 {
-        let (gx0, gx1) = ((x0 / pitch).floor() - 1.0, (x1 / pitch).ceil() + 1.0);
-        let (gy0, gy1) = ((y0 / pitch).floor() - 1.0, (y1 / pitch).ceil() + 1.0);
-        let lines = ((gx1 - gx0) + (gy1 - gy0)) as usize;
-        if lines < 2000 {
-            let mut k = gx0;
-            while k <= gx1 {
-                segment(
-                    &mut img,
-                    calib,
-                    (k * pitch, gy0 * pitch),
-                    (k * pitch, gy1 * pitch),
-                    GRID,
-                );
-                k += 1.0;
-            }
-            let mut k = gy0;
-            while k <= gy1 {
-                segment(
-                    &mut img,
-                    calib,
-                    (gx0 * pitch, k * pitch),
-                    (gx1 * pitch, k * pitch),
-                    GRID,
-                );
-                k += 1.0;
-            }
-        }
-        let len = 3.0 * pitch;
-        segment(&mut img, calib, (0.0, 0.0), (len, 0.0), X_AXIS);
-        segment(&mut img, calib, (0.0, 0.0), (0.0, len), Y_AXIS);
-        segment(&mut img, calib, (len, 0.0), (0.85 * len, 0.1 * len), X_AXIS);
-        segment(
-            &mut img,
-            calib,
-            (len, 0.0),
-            (0.85 * len, -0.1 * len),
-            X_AXIS,
-        );
-        segment(&mut img, calib, (0.0, len), (0.1 * len, 0.85 * len), Y_AXIS);
-        segment(
-            &mut img,
-            calib,
-            (0.0, len),
-            (-0.1 * len, 0.85 * len),
-            Y_AXIS,
-        );
+    (x0, x1, y0, y1)
+}
+
+/// The screen lines every `pitch` mm over the extent widened by one pitch each way (none when that
+/// would be absurdly many).
+fn draw_grid(
+    img: &mut RgbImage,
+    calib: &Calibration,
+    (x0, x1, y0, y1): (f64, f64, f64, f64),
+    pitch: f64,
+) {
+    let (gx0, gx1) = ((x0 / pitch).floor() - 1.0, (x1 / pitch).ceil() + 1.0);
+    let (gy0, gy1) = ((y0 / pitch).floor() - 1.0, (y1 / pitch).ceil() + 1.0);
+    let lines = ((gx1 - gx0) + (gy1 - gy0)) as usize;
+    if lines >= 2000 {
+        return;
     }
+    let mut k = gx0;
+    while k <= gx1 {
+        segment(
+            img,
+            calib,
+            (k * pitch, gy0 * pitch),
+            (k * pitch, gy1 * pitch),
+            GRID,
+        );
+        k += 1.0;
+    }
+    let mut k = gy0;
+    while k <= gy1 {
+        segment(
+            img,
+            calib,
+            (gx0 * pitch, k * pitch),
+            (gx1 * pitch, k * pitch),
+            GRID,
+        );
+        k += 1.0;
+    }
+}
+
+/// The screen axes from the origin, `len` mm long, with arrow heads.
+fn draw_axes(img: &mut RgbImage, calib: &Calibration, len: f64) {
+    segment(img, calib, (0.0, 0.0), (len, 0.0), X_AXIS);
+    segment(img, calib, (0.0, 0.0), (0.0, len), Y_AXIS);
+    segment(img, calib, (len, 0.0), (0.85 * len, 0.1 * len), X_AXIS);
+    segment(img, calib, (len, 0.0), (0.85 * len, -0.1 * len), X_AXIS);
+    segment(img, calib, (0.0, len), (0.1 * len, 0.85 * len), Y_AXIS);
+    segment(img, calib, (0.0, len), (-0.1 * len, 0.85 * len), Y_AXIS);
+}
+
+/// Used points as crosses, rejected ones as squares, at their image positions.
+fn draw_points(img: &mut RgbImage, pairs: &[PointPair], used: &[usize]) {
     for (i, p) in pairs.iter().enumerate() {
         let (x, y) = (p.pixel.x as f32, p.pixel.y as f32);
         if used.contains(&i) {
-            draw_line_segment_mut(&mut img, (x - 3.0, y), (x + 3.0, y), USED);
-            draw_line_segment_mut(&mut img, (x, y - 3.0), (x, y + 3.0), USED);
+            draw_line_segment_mut(img, (x - 3.0, y), (x + 3.0, y), USED);
+            draw_line_segment_mut(img, (x, y - 3.0), (x, y + 3.0), USED);
         } else {
             draw_hollow_rect_mut(
-                &mut img,
+                img,
                 Rect::at(x.round() as i32 - 4, y.round() as i32 - 4).of_size(9, 9),
                 REJECTED,
             );
         }
     }
-    img
 }
 
 /// A round pitch (1, 2 or 5 times a power of ten) near `x`.

@@ -1,8 +1,8 @@
 //! The local background around the spot: a plane (level and slopes) fitted robustly to a square ring of
 //! pixels just outside the spot's reach, and its slow smoothing from frame to frame.
 
-use super::image::{median_and_sigma, Img, Pixel, Rect};
 use super::learned::ScreenModel;
+use super::view::{median_and_sigma, Img, Pixel, Rect};
 use crate::units::PixelPoint;
 use nalgebra::{Matrix3, Vector3};
 

@@ -2,7 +2,7 @@
 //! when a fit is not possible.
 
 use super::background::Under;
-use super::image::{Img, Pixel, Rect};
+use super::view::{Img, Pixel, Rect};
 
 /// A centroid and how many pixels lay above half the peak.
 #[derive(Debug, Clone, Copy, PartialEq)]

@@ -6,7 +6,7 @@
 //! spot is measured on top of it. A plane fitted to the ring around the spot still absorbs changes of
 //! room light. Memory is one value and one count per pixel, independent of the run's length.
 
-use super::image::{Img, Pixel, Rect};
+use super::view::{Img, Pixel, Rect};
 use crate::units::PixelPoint;
 
 /// Frames a pixel must have been seen without the spot before its learned value is used.

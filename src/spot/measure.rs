@@ -4,8 +4,8 @@
 use super::background::{ring_background, LocalBackground, Under};
 use super::centroid::weighted_centroid;
 use super::fit::{fit_gaussian, Gaussian, Sample};
-use super::image::{Img, Pixel, Rect};
 use super::learned::ScreenModel;
+use super::view::{Img, Pixel, Rect};
 use super::{SpotConfig, SpotFix, SpotStatus};
 use crate::units::PixelPoint;
 

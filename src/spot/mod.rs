@@ -28,11 +28,11 @@
 mod background;
 mod centroid;
 mod fit;
-mod image;
 mod learned;
 mod measure;
 mod search;
 mod tracker;
+mod view;
 
 pub use background::LocalBackground;
 pub use tracker::Tracker;
@@ -40,9 +40,9 @@ pub use tracker::Tracker;
 pub use crate::frame::Roi;
 use crate::frame::{Pixels, Plane};
 use crate::units::PixelPoint;
-use image::{Img, Pixel, Rect, StudioLuma};
 use ndarray::Array2;
 use serde::{Deserialize, Serialize};
+use view::{Img, Pixel, Rect, StudioLuma};
 
 /// How a located spot should be read.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]

@@ -6,7 +6,7 @@
 //! spots can be reported. One pass over the pixels plus work on a 16 times smaller grid keeps a
 //! 1920 x 1080 frame within a few milliseconds.
 
-use super::image::{median_and_sigma, Img, Pixel, Rect};
+use super::view::{median_and_sigma, Img, Pixel, Rect};
 
 /// Side of the blocks averaged for the search, px.
 pub(crate) const BLOCK: usize = 4;

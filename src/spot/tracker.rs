@@ -2,8 +2,8 @@
 //! around a constant-velocity prediction, with the background smoothed over frames.
 
 use super::background::{BackgroundFollower, LocalBackground};
-use super::image::{Img, Pixel, Rect};
 use super::learned::ScreenModel;
+use super::view::{Img, Pixel, Rect};
 use super::{
     full_search, judge_tracked, measure, with_image, ImageJob, SpotConfig, SpotFix, SpotStatus,
 };

@@ -191,71 +191,10 @@ pub struct Trajectory {
 impl Trajectory {
     /// Solve the equation of motion piece by piece.
     pub fn new(cfg: &MotionConfig) -> Result<Self, MotionError> {
-        let (i, k) = (cfg.inertia, cfg.kappa);
-        if !(i.is_finite() && k.is_finite() && i > 0.0 && k > 0.0) {
-            return Err(MotionError::NotPositive {
-                inertia: i,
-                kappa: k,
-            });
-        }
-        if cfg.damping_time.is_nan() || cfg.damping_time <= 0.0 {
-            return Err(MotionError::BadDamping(cfg.damping_time));
-        }
-        let gamma = if cfg.damping_time.is_infinite() {
-            0.0
-        } else {
-            1.0 / cfg.damping_time
-        };
-        let omega0 = (k / i).sqrt();
-        if gamma >= omega0 {
-            return Err(MotionError::Overdamped { gamma, omega0 });
-        }
-        let omega_d = (omega0 * omega0 - gamma * gamma).sqrt();
-        for (n, w) in cfg.moves.windows(2).enumerate() {
-            if w[1].t.partial_cmp(&w[0].t) != Some(std::cmp::Ordering::Greater) {
-                return Err(MotionError::Unordered {
-                    index: n + 1,
-                    t: w[1].t,
-                });
-            }
-        }
-        if let Some(m) = cfg.moves.first() {
-            if m.t.is_nan() || m.t <= 0.0 {
-                return Err(MotionError::Unordered { index: 0, t: m.t });
-            }
-        }
-        let theta_g = cfg.torque / k;
-        let eq = |p: MassPosition| cfg.zero_angle + p.sign() * theta_g;
-        let mut pieces = Vec::with_capacity(cfg.moves.len() + 1);
-        // Transient variable u = theta - theta_eq (drift is added on top at evaluation).
-        let mut start = 0.0;
-        let mut pos = cfg.initial_position;
-        let mut u0 = cfg.initial_offset;
-        let mut v0 = cfg.initial_velocity;
-        for idx in 0..=cfg.moves.len() {
-            let end = cfg.moves.get(idx).map_or(f64::INFINITY, |m| m.t);
-            // u(s) = e^{-gs}(c1 cos ws + c2 sin ws); u(0) = c1; u'(0) = -g c1 + w c2.
-            let c1 = u0;
-            let c2 = (v0 + gamma * c1) / omega_d;
-            let piece = Piece {
-                start,
-                end,
-                position: pos,
-                equilibrium: eq(pos),
-                c1,
-                c2,
-            };
-            pieces.push(piece);
-            if let Some(m) = cfg.moves.get(idx) {
-                let s = m.t - start;
-                let (u, v) = transient(&piece, gamma, omega_d, s);
-                // Angle and velocity are continuous; the equilibrium jumps.
-                u0 = u + piece.equilibrium - eq(m.to);
-                v0 = v;
-                start = m.t;
-                pos = m.to;
-            }
-        }
+        let (gamma, omega0, omega_d) = oscillator(cfg)?;
+        check_moves(&cfg.moves)?;
+        let theta_g = cfg.torque / cfg.kappa;
+        let pieces = solve_pieces(cfg, gamma, omega_d, theta_g);
         Ok(Self {
             config: cfg.clone(),
             truth: MotionTruth {
@@ -265,7 +204,7 @@ impl Trajectory {
                 period0: 2.0 * PI / omega0,
                 period_d: 2.0 * PI / omega_d,
                 theta_g,
-                alpha_swap: 2.0 * cfg.torque / i,
+                alpha_swap: 2.0 * cfg.torque / cfg.inertia,
                 drift: cfg.drift,
                 pieces,
             },
@@ -338,6 +277,87 @@ fn transient(p: &Piece, gamma: f64, omega_d: f64, s: f64) -> (f64, f64) {
     let u = e * (p.c1 * cs + p.c2 * sn);
     let v = e * ((-gamma * p.c1 + omega_d * p.c2) * cs + (-gamma * p.c2 - omega_d * p.c1) * sn);
     (u, v)
+}
+
+/// The oscillator's rates from the apparatus: `(gamma, omega_0, omega_d)`; refuses a non-positive
+/// inertia or torsion constant, a non-positive damping time and an over-damped oscillator.
+fn oscillator(cfg: &MotionConfig) -> Result<(f64, f64, f64), MotionError> {
+    let (i, k) = (cfg.inertia, cfg.kappa);
+    if !(i.is_finite() && k.is_finite() && i > 0.0 && k > 0.0) {
+        return Err(MotionError::NotPositive {
+            inertia: i,
+            kappa: k,
+        });
+    }
+    if cfg.damping_time.is_nan() || cfg.damping_time <= 0.0 {
+        return Err(MotionError::BadDamping(cfg.damping_time));
+    }
+    let gamma = if cfg.damping_time.is_infinite() {
+        0.0
+    } else {
+        1.0 / cfg.damping_time
+    };
+    let omega0 = (k / i).sqrt();
+    if gamma >= omega0 {
+        return Err(MotionError::Overdamped { gamma, omega0 });
+    }
+    let omega_d = (omega0 * omega0 - gamma * gamma).sqrt();
+    Ok((gamma, omega0, omega_d))
+}
+
+/// Mass moves must come after `t = 0` and each after the one before.
+fn check_moves(moves: &[MassMove]) -> Result<(), MotionError> {
+    for (n, w) in moves.windows(2).enumerate() {
+        if w[1].t.partial_cmp(&w[0].t) != Some(std::cmp::Ordering::Greater) {
+            return Err(MotionError::Unordered {
+                index: n + 1,
+                t: w[1].t,
+            });
+        }
+    }
+    if let Some(m) = moves.first() {
+        if m.t.is_nan() || m.t <= 0.0 {
+            return Err(MotionError::Unordered { index: 0, t: m.t });
+        }
+    }
+    Ok(())
+}
+
+/// The stretches of constant torque, each with the transient that carries the angle and angular
+/// velocity over from the one before.
+fn solve_pieces(cfg: &MotionConfig, gamma: f64, omega_d: f64, theta_g: f64) -> Vec<Piece> {
+    let eq = |p: MassPosition| cfg.zero_angle + p.sign() * theta_g;
+    let mut pieces = Vec::with_capacity(cfg.moves.len() + 1);
+    // Transient variable u = theta - theta_eq (drift is added on top at evaluation).
+    let mut start = 0.0;
+    let mut pos = cfg.initial_position;
+    let mut u0 = cfg.initial_offset;
+    let mut v0 = cfg.initial_velocity;
+    for idx in 0..=cfg.moves.len() {
+        let end = cfg.moves.get(idx).map_or(f64::INFINITY, |m| m.t);
+        // u(s) = e^{-gs}(c1 cos ws + c2 sin ws); u(0) = c1; u'(0) = -g c1 + w c2.
+        let c1 = u0;
+        let c2 = (v0 + gamma * c1) / omega_d;
+        let piece = Piece {
+            start,
+            end,
+            position: pos,
+            equilibrium: eq(pos),
+            c1,
+            c2,
+        };
+        pieces.push(piece);
+        if let Some(m) = cfg.moves.get(idx) {
+            let s = m.t - start;
+            let (u, v) = transient(&piece, gamma, omega_d, s);
+            // Angle and velocity are continuous; the equilibrium jumps.
+            u0 = u + piece.equilibrium - eq(m.to);
+            v0 = v;
+            start = m.t;
+            pos = m.to;
+        }
+    }
+    pieces
 }
 
 #[cfg(test)]
