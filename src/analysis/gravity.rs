@@ -201,85 +201,130 @@ pub fn acceleration(
     })
 }
 
-/// Index of each input in [`deflection_inputs`] / [`acceleration_inputs`] (shared beam and source part).
+/// Index of the first lever input in the deflection and acceleration models' inputs (after the shared
+/// beam and source part).
 const BEAM_INPUTS: usize = 8;
 
-/// The beam's and the sources' inputs (the first entries of both models' inputs).
-pub fn beam_inputs(setup: &Setup) -> Vec<Input> {
-    let b = &setup.beam;
-    let s = &setup.sources;
-    vec![
-        Input::measured("small_mass m", b.small_mass, "kg"),
-        Input::measured("small_radius r", b.small_radius, "m"),
-        Input::measured("arm R", b.arm, "m"),
-        Input::measured("rod_mass", b.rod_mass, "kg"),
-        Input::measured("rod_length", b.rod_length, "m"),
-        Input::measured("extra_inertia", b.extra_inertia, "kg m^2"),
-        Input::measured("large_mass M", s.large_mass, "kg"),
-        Input::measured("separation d", s.separation, "m"),
-    ]
+/// The apparatus quantities the G formulas need, unpacked from the setup once.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Apparatus {
+    pub small_mass: Measured,
+    pub small_radius: Measured,
+    pub arm: Measured,
+    pub rod_mass: Measured,
+    pub rod_length: Measured,
+    pub extra_inertia: Measured,
+    pub large_mass: Measured,
+    pub separation: Measured,
+    /// Mirror to scale (`L`), m.
+    pub screen_distance: Measured,
+    /// Scale reading of the foot point (`x0`), m.
+    pub zero: Measured,
+    /// The nominal lever (`L`, `x0` at their values, and the scale's shape).
+    pub lever: Lever,
 }
 
-/// Moment of inertia from the first entries of [`beam_inputs`].
+impl Apparatus {
+    pub fn from_setup(setup: &Setup) -> Self {
+        let b = &setup.beam;
+        let s = &setup.sources;
+        Self {
+            small_mass: b.small_mass,
+            small_radius: b.small_radius,
+            arm: b.arm,
+            rod_mass: b.rod_mass,
+            rod_length: b.rod_length,
+            extra_inertia: b.extra_inertia,
+            large_mass: s.large_mass,
+            separation: s.separation,
+            screen_distance: setup.lever.screen_distance,
+            zero: setup.lever.zero,
+            lever: Lever::from_setup(setup),
+        }
+    }
+
+    /// The beam's and the sources' inputs (the first entries of both models' inputs).
+    pub fn beam_inputs(&self) -> Vec<Input> {
+        vec![
+            Input::measured("small_mass m", self.small_mass, "kg"),
+            Input::measured("small_radius r", self.small_radius, "m"),
+            Input::measured("arm R", self.arm, "m"),
+            Input::measured("rod_mass", self.rod_mass, "kg"),
+            Input::measured("rod_length", self.rod_length, "m"),
+            Input::measured("extra_inertia", self.extra_inertia, "kg m^2"),
+            Input::measured("large_mass M", self.large_mass, "kg"),
+            Input::measured("separation d", self.separation, "m"),
+        ]
+    }
+
+    /// Inputs of the deflection model: beam and sources, the lever (`L`, `x0`), the half scale
+    /// difference `S` between the two positions' equilibrium readings, and the natural period `T0`.
+    pub fn deflection_inputs(&self, half_scale: Measured, period: Measured) -> Vec<Input> {
+        let mut v = self.beam_inputs();
+        v.push(Input::measured(
+            "screen_distance L",
+            self.screen_distance,
+            "m",
+        ));
+        v.push(Input::measured("zero x0", self.zero, "m"));
+        v.push(Input::measured("half scale difference S", half_scale, "m"));
+        v.push(Input::measured("period T0", period, "s"));
+        v
+    }
+
+    /// The deflection model: G from [`Apparatus::deflection_inputs`]; `x_mid` is the scale reading
+    /// midway between the two positions' equilibria (held fixed).
+    pub fn g_deflection_model(&self, x_mid: f64) -> impl Fn(&[f64]) -> f64 {
+        let shape = self.lever.shape;
+        move |x: &[f64]| {
+            let k = BEAM_INPUTS;
+            let lever = Lever {
+                distance_m: x[k],
+                zero_m: x[k + 1],
+                shape,
+            };
+            let s = x[k + 2];
+            let theta = (lever.angle(x_mid + s).0 - lever.angle(x_mid - s).0) / 2.0;
+            let inertia = inertia_of(x);
+            let omega0 = 2.0 * std::f64::consts::PI / x[k + 3];
+            let kappa = physics::torsion_constant(inertia, omega0);
+            physics::g_from_deflection(kappa, theta, x[0], x[6], x[2], x[7])
+        }
+    }
+
+    /// Inputs of the acceleration model: beam and sources, `L`, and the acceleration jump `alpha`
+    /// measured in angle units of the nominal lever.
+    pub fn acceleration_inputs(&self, alpha: Measured) -> Vec<Input> {
+        let mut v = self.beam_inputs();
+        v.push(Input::measured(
+            "screen_distance L",
+            self.screen_distance,
+            "m",
+        ));
+        v.push(Input::measured(
+            "acceleration jump alpha",
+            alpha,
+            "rad s^-2",
+        ));
+        v
+    }
+
+    /// The acceleration model: G from [`Apparatus::acceleration_inputs`]. The angle scale goes as
+    /// `1 / L` (the small-angle lever), so an acceleration read with the nominal `L_nom` is
+    /// `alpha L_nom / L`.
+    pub fn g_acceleration_model(&self) -> impl Fn(&[f64]) -> f64 {
+        let l_nom = self.screen_distance.value;
+        move |x: &[f64]| {
+            let k = BEAM_INPUTS;
+            let alpha = x[k + 1] * l_nom / x[k];
+            physics::g_from_acceleration(alpha, x[0], x[6], x[2], x[7], inertia_of(x))
+        }
+    }
+}
+
+/// Moment of inertia from the first entries of [`Apparatus::beam_inputs`].
 pub fn inertia_of(x: &[f64]) -> f64 {
     physics::beam_inertia(x[3], x[4], x[0], x[1], x[2], x[5])
-}
-
-/// Inputs of the deflection model: beam and sources, the lever (`L`, `x0`), the half scale difference
-/// `S` between the two positions' equilibrium readings, and the natural period `T0`.
-pub fn deflection_inputs(setup: &Setup, half_scale: Measured, period: Measured) -> Vec<Input> {
-    let mut v = beam_inputs(setup);
-    let l = &setup.lever;
-    v.push(Input::measured("screen_distance L", l.screen_distance, "m"));
-    v.push(Input::measured("zero x0", l.zero, "m"));
-    v.push(Input::measured("half scale difference S", half_scale, "m"));
-    v.push(Input::measured("period T0", period, "s"));
-    v
-}
-
-/// The deflection model: G from [`deflection_inputs`]; `x_mid` is the scale reading midway between the
-/// two positions' equilibria (held fixed).
-pub fn g_deflection_model(setup: &Setup, x_mid: f64) -> impl Fn(&[f64]) -> f64 {
-    let shape = setup.lever.scale;
-    move |x: &[f64]| {
-        let k = BEAM_INPUTS;
-        let lever = Lever {
-            distance_m: x[k],
-            zero_m: x[k + 1],
-            shape,
-        };
-        let s = x[k + 2];
-        let theta = (lever.angle(x_mid + s).0 - lever.angle(x_mid - s).0) / 2.0;
-        let inertia = inertia_of(x);
-        let omega0 = 2.0 * std::f64::consts::PI / x[k + 3];
-        let kappa = physics::torsion_constant(inertia, omega0);
-        physics::g_from_deflection(kappa, theta, x[0], x[6], x[2], x[7])
-    }
-}
-
-/// Inputs of the acceleration model: beam and sources, `L`, and the acceleration jump `alpha` measured
-/// in angle units of the nominal lever.
-pub fn acceleration_inputs(setup: &Setup, alpha: Measured) -> Vec<Input> {
-    let mut v = beam_inputs(setup);
-    let l = &setup.lever;
-    v.push(Input::measured("screen_distance L", l.screen_distance, "m"));
-    v.push(Input::measured(
-        "acceleration jump alpha",
-        alpha,
-        "rad s^-2",
-    ));
-    v
-}
-
-/// The acceleration model: G from [`acceleration_inputs`]. The angle scale goes as `1 / L` (the small-
-/// angle lever), so an acceleration read with the nominal `L_nom` is `alpha L_nom / L`.
-pub fn g_acceleration_model(setup: &Setup) -> impl Fn(&[f64]) -> f64 {
-    let l_nom = setup.lever.screen_distance.value;
-    move |x: &[f64]| {
-        let k = BEAM_INPUTS;
-        let alpha = x[k + 1] * l_nom / x[k];
-        physics::g_from_acceleration(alpha, x[0], x[6], x[2], x[7], inertia_of(x))
-    }
 }
 
 /// Half the scale difference between the readings of `theta_mid +- theta_g` on `lever`, and its

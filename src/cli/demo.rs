@@ -4,9 +4,10 @@
 
 use anyhow::Context;
 use clap::Args;
-use spotlever::analysis::{self, read_events, AnalysisOptions};
+use spotlever::analysis::{self, read_events, AnalysisOptions, Summary};
 use spotlever::calib::homography::RobustOptions;
 use spotlever::calib::{fit_calibration, grid, Calibration};
+use spotlever::export::write_results;
 use spotlever::physics::{G_CODATA_2018, G_CODATA_2018_U};
 use spotlever::setup::Setup;
 use spotlever::source::{open, OpenOptions};
@@ -64,11 +65,8 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
         analysis::samples_from_track(&track, &spotlever::lever::Lever::from_setup(&setup))?;
     let a = analysis::analyze(&samples, &setup, Some(&events), &AnalysisOptions::default())?;
     let results = args.out.join("analysis");
-    super::analyze::write_outputs(&results, &samples, &a)?;
-    print!(
-        "{}",
-        super::analyze::summary(&a, missing, track.truncated_tail)
-    );
+    write_results(&results, &samples, &a)?;
+    print!("{}", Summary::new(&a, missing, track.truncated_tail));
     let diff = a.g.value - G_CODATA_2018;
     let u_diff = (a.g.u * a.g.u + G_CODATA_2018_U * G_CODATA_2018_U).sqrt();
     println!(

@@ -1,0 +1,125 @@
+//! The analysis' data: the samples it takes, the knobs it has, and what it finds (per segment, by
+//! the acceleration method, and for the whole run).
+
+use super::damped::DampedFit;
+use super::{gravity, period, segments, uncertainty};
+use crate::units::Measured;
+
+/// One sample of the twist angle.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct Sample {
+    /// Seconds since the start of the run.
+    pub t: f64,
+    /// Twist angle, rad.
+    pub theta: f64,
+}
+
+/// Knobs of the analysis; the defaults suit a typical run.
+#[derive(Debug, Clone, PartialEq)]
+pub struct AnalysisOptions {
+    /// Fit a linear drift in each segment.
+    pub fit_drift: bool,
+    /// Segments shorter than this many periods do not contribute to the period.
+    pub min_periods: f64,
+    /// Length of the windows either side of a move for the acceleration method, in periods.
+    pub accel_window_periods: f64,
+    /// Samples within this many periods of a move found in the trace are left out of the fits (the
+    /// found time is uncertain by a small fraction of a period).
+    pub detect_guard_periods: f64,
+    /// Monte Carlo draws (JCGM 101 asks for at least 1e5 for a 95 % interval to two digits).
+    pub mc_draws: usize,
+    pub mc_seed: u64,
+}
+
+impl Default for AnalysisOptions {
+    fn default() -> Self {
+        Self {
+            fit_drift: true,
+            min_periods: 1.5,
+            accel_window_periods: 0.5,
+            detect_guard_periods: 0.05,
+            mc_draws: 200_000,
+            mc_seed: 20_181,
+        }
+    }
+}
+
+/// One segment's results.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct SegmentResult {
+    pub index: usize,
+    pub label: String,
+    /// Segment start and end, s.
+    pub start: f64,
+    pub end: f64,
+    /// Time the equilibrium refers to (midway through the fitted samples), s.
+    pub t_ref: f64,
+    /// Samples fitted.
+    pub points: usize,
+    /// Fitted equilibrium, rad.
+    pub equilibrium: Measured,
+    /// Natural period from this segment's own fit, s (`None` when too short).
+    pub period: Option<Measured>,
+    /// Amplitude 1/e time `1/gamma`, s (infinite when no damping is seen).
+    pub damping_time: f64,
+    /// Root-mean-square residual, rad.
+    pub residual_rms: f64,
+    /// Whether this segment's period entered the combined period.
+    pub used_for_period: bool,
+    /// Why not, or other remarks.
+    pub note: Option<String>,
+    /// Rest point from the turning points, rad.
+    pub turning_rest: Option<Measured>,
+    pub fit: DampedFit,
+}
+
+/// G by the initial-acceleration method.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct AccelerationResult {
+    pub acceleration: gravity::Acceleration,
+    pub g: uncertainty::Gum,
+    /// `G_acceleration / G_deflection = alpha / (2 omega_0^2 theta_G)`; the apparatus' geometry cancels,
+    /// so its uncertainty is the statistical one only.
+    pub ratio_to_deflection: Measured,
+}
+
+/// Everything the analysis found.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Analysis {
+    /// Samples used (finite).
+    pub samples_used: usize,
+    /// Samples dropped for a non-finite time or angle.
+    pub dropped_nonfinite: usize,
+    /// Gaps longer than three sample spacings, `(from, to)` s.
+    pub gaps: Vec<(f64, f64)>,
+    pub spectrum: period::Spectrum,
+    /// The step detector's output when the moves were found in the trace.
+    pub detection: Option<segments::Detection>,
+    /// Times of the mass moves between segments, s.
+    pub moves: Vec<f64>,
+    pub moves_from_events: bool,
+    pub segments: Vec<SegmentResult>,
+    /// Combined natural angular frequency, rad/s.
+    pub omega0: Measured,
+    /// Combined decay rate, 1/s.
+    pub gamma: Measured,
+    /// Natural period `2 pi / omega_0`, s.
+    pub period: Measured,
+    /// Birge ratio of the segments' periods (sqrt of chi^2 per degree of freedom), when two or more.
+    pub period_birge: Option<f64>,
+    /// Moment of inertia of the beam, kg m^2.
+    pub inertia: Measured,
+    /// Torsion constant, N m / rad.
+    pub kappa: Measured,
+    pub deflection: gravity::Deflection,
+    /// Far-sphere correction `beta`.
+    pub beta: f64,
+    /// G by deflection, first-order (GUM) with its budget.
+    pub g: uncertainty::Gum,
+    /// G by deflection, Monte Carlo (JCGM 101).
+    pub g_mc: uncertainty::MonteCarlo,
+    pub acceleration: Option<AccelerationResult>,
+    /// `G / G_CODATA2018 - 1`.
+    pub codata_relative_difference: f64,
+    pub warnings: Vec<String>,
+}
