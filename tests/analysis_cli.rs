@@ -2,6 +2,7 @@
 //! errors for a track without screen positions and for a bad setup file.
 
 mod analysis_common;
+mod support;
 
 use analysis_common::{run, EXACT_SETUP};
 use spotlever::lever::Lever;
@@ -9,7 +10,7 @@ use spotlever::spot::{SpotFix, SpotStatus};
 use spotlever::track::{TrackRow, TrackWriter};
 use spotlever::units::{PixelPoint, Radians, ScreenPoint, Seconds};
 use std::path::Path;
-use std::process::Command;
+use support::cli::spotlever;
 
 fn write_track(path: &Path, with_mm: bool) {
     let r = run(5, 3.0, 4.0, 2e-5, 1e-10, 5);
@@ -46,25 +47,18 @@ fn write_track(path: &Path, with_mm: bool) {
     }
 }
 
-fn spotlever(args: &[&str]) -> std::process::Output {
-    Command::new(env!("CARGO_BIN_EXE_spotlever"))
-        .args(args)
-        .output()
-        .unwrap()
-}
-
 /// `spotlever analyze TRACK --setup SETUP --out DIR`, expected to fail; returns its stderr.
 fn analyze_fails(track: &Path, setup: &Path, out: &Path) -> String {
-    let o = spotlever(&[
+    spotlever([
         "analyze",
         track.to_str().unwrap(),
         "--setup",
         setup.to_str().unwrap(),
         "--out",
         out.to_str().unwrap(),
-    ]);
-    assert!(!o.status.success());
-    String::from_utf8_lossy(&o.stderr).into_owned()
+    ])
+    .failed()
+    .to_owned()
 }
 
 #[test]
@@ -75,7 +69,7 @@ fn analyze_writes_all_outputs_and_recovers_g() {
     let out = dir.path().join("out");
     write_track(&track, true);
     std::fs::write(&setup, EXACT_SETUP).unwrap();
-    let o = spotlever(&[
+    let o = spotlever([
         "analyze",
         track.to_str().unwrap(),
         "--setup",
@@ -85,9 +79,9 @@ fn analyze_writes_all_outputs_and_recovers_g() {
         "--draws",
         "100000",
     ]);
-    let stdout = String::from_utf8_lossy(&o.stdout);
-    eprintln!("{stdout}{}", String::from_utf8_lossy(&o.stderr));
-    assert!(o.status.success());
+    let stdout = &o.stdout;
+    eprintln!("{stdout}{}", o.stderr);
+    assert!(o.ok());
     // One screen: at most 40 lines of at most 160 characters.
     assert!(
         stdout.lines().count() <= 40,

@@ -1,10 +1,12 @@
 //! The `calibrate` command end to end: a point-pair calibration written and read back, and bad input
 //! giving a clear message and a non-zero exit.
 
+mod support;
+
 use spotlever::calib::Calibration;
 use spotlever::units::PixelPoint;
 use std::path::Path;
-use std::process::Command;
+use support::cli::spotlever;
 
 fn write_image(path: &Path, w: u32, h: u32) {
     image::GrayImage::from_pixel(w, h, image::Luma([200u8]))
@@ -26,17 +28,10 @@ fn pairs_csv(n: usize) -> String {
     s
 }
 
+/// `spotlever calibrate ARGS...`: whether it succeeded, its standard output and its standard error.
 fn run(args: &[&str]) -> (bool, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_spotlever"))
-        .arg("calibrate")
-        .args(args)
-        .output()
-        .unwrap();
-    (
-        out.status.success(),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
+    let r = spotlever(std::iter::once("calibrate").chain(args.iter().copied()));
+    (r.ok(), r.stdout, r.stderr)
 }
 
 #[test]

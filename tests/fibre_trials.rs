@@ -1,10 +1,12 @@
 //! Fibre trials: torsion constant and shear modulus from a test body's period, with uncertainties.
 
+mod support;
+
 use spotlever::physics;
 use spotlever::plan::fibre::{kappa_of, SectionValues};
 use spotlever::plan::trial::{evaluate, parse_trials, PeriodSource};
 use std::path::Path;
-use std::process::Command;
+use support::cli::spotlever;
 
 fn period_for(g: f64, d: f64, l: f64, inertia: f64) -> f64 {
     physics::period(inertia, kappa_of(g, &SectionValues::Round(d), l))
@@ -76,21 +78,14 @@ fn fibre_command_compares_trials_side_by_side_and_writes_csv() {
     let path = dir.path().join("trials.toml");
     std::fs::write(&path, text).unwrap();
     let csv = dir.path().join("trials.csv");
-    let out = Command::new(env!("CARGO_BIN_EXE_spotlever"))
-        .args([
-            "fibre",
-            path.to_str().unwrap(),
-            "--csv",
-            csv.to_str().unwrap(),
-        ])
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let table = String::from_utf8_lossy(&out.stdout);
+    let out = spotlever([
+        "fibre",
+        path.to_str().unwrap(),
+        "--csv",
+        csv.to_str().unwrap(),
+    ]);
+    out.assert_ok();
+    let table = &out.stdout;
     assert!(table.contains("W50") && table.contains("SiO2"), "{table}");
     let mut r = csv::Reader::from_path(&csv).unwrap();
     let rows: Vec<csv::StringRecord> = r.records().map(|x| x.unwrap()).collect();

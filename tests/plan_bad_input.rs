@@ -1,10 +1,12 @@
 //! Bad fibre descriptions are refused with a message that says what is wrong and where, and the
 //! `plan` command exits non-zero; good ones print the JSON object.
 
+mod support;
+
 use spotlever::plan::fibre::Fibre;
 use spotlever::setup::Setup;
 use std::path::Path;
-use std::process::Command;
+use support::cli::spotlever;
 
 const BASE: &str = r#"
 [beam]
@@ -100,12 +102,8 @@ fn plan_command_exits_non_zero_on_bad_input_and_prints_json_on_good() {
         ),
     )
     .unwrap();
-    let out = Command::new(env!("CARGO_BIN_EXE_spotlever"))
-        .args(["plan", bad.to_str().unwrap()])
-        .output()
-        .unwrap();
-    assert!(!out.status.success());
-    let err = String::from_utf8_lossy(&out.stderr);
+    let out = spotlever(["plan", bad.to_str().unwrap()]);
+    let err = out.failed();
     assert!(err.contains("cheese") && err.contains("tungsten"), "{err}");
 
     let good = dir.path().join("good.toml");
@@ -114,22 +112,15 @@ fn plan_command_exits_non_zero_on_bad_input_and_prints_json_on_good() {
         format!("{BASE}[fibre]\nmaterial = \"tungsten\"\ndiameter = \"30 ± 1 um\"\nlength = \"400 ± 2 mm\"\n"),
     )
     .unwrap();
-    let out = Command::new(env!("CARGO_BIN_EXE_spotlever"))
-        .args([
-            "plan",
-            good.to_str().unwrap(),
-            "--json",
-            "--quality-factor",
-            "15",
-        ])
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let out = spotlever([
+        "plan",
+        good.to_str().unwrap(),
+        "--json",
+        "--quality-factor",
+        "15",
+    ]);
+    out.assert_ok();
+    let v: serde_json::Value = serde_json::from_str(&out.stdout).unwrap();
     for key in [
         "theta_rad",
         "period_s",

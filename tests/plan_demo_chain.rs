@@ -2,22 +2,14 @@
 //! CODATA 2018 value the frames were simulated with (G = 6.67430(15)e-11) within twice the combined
 //! standard uncertainty — the analyzer's stated uncertainty, nothing tuned.
 
-use std::process::Command;
+mod support;
+
+use support::cli::{bin, run};
 
 #[test]
 fn demo_recovers_codata_g_within_twice_its_uncertainty() {
     let out_dir = tempfile::tempdir().unwrap();
-    let out = Command::new(env!("CARGO_BIN_EXE_spotlever"))
-        .args(["demo", "--out"])
-        .arg(out_dir.path())
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}\n{}",
-        String::from_utf8_lossy(&out.stdout),
-        String::from_utf8_lossy(&out.stderr)
-    );
+    run(bin().args(["demo", "--out"]).arg(out_dir.path())).assert_ok();
     let text = std::fs::read_to_string(out_dir.path().join("analysis/result.json")).unwrap();
     let a: serde_json::Value = serde_json::from_str(&text).unwrap();
     let g = a["G"]["value"].as_f64().unwrap();
@@ -38,13 +30,10 @@ fn demo_recovers_codata_g_within_twice_its_uncertainty() {
 
 #[test]
 fn demo_with_a_missing_data_folder_says_what_to_do() {
-    let out = Command::new(env!("CARGO_BIN_EXE_spotlever"))
+    let out = run(bin()
         .args(["demo", "--data", "/nonexistent/demo", "--out"])
-        .arg(std::env::temp_dir().join("spotlever-demo-test-missing"))
-        .output()
-        .unwrap();
-    assert!(!out.status.success());
-    let err = String::from_utf8_lossy(&out.stderr);
+        .arg(std::env::temp_dir().join("spotlever-demo-test-missing")));
+    let err = out.failed();
     assert!(
         err.contains("make_demo_data") && err.contains("--data"),
         "{err}"

@@ -1,12 +1,12 @@
 //! An existing run folder is never overwritten: without a flag the recorder refuses and names the
 //! flags, `--append` continues frame numbers and times after the last row, `--force` replaces it.
 
-mod record_support;
+mod support;
 
-use record_support::*;
+use spotlever::track::read_track;
 use spotlever::record::run_dir::read_meta;
 use spotlever::source::{self, Delivery, OpenOptions};
-use spotlever::track::read_track;
+use support::record::*;
 
 #[test]
 fn append_continues_times_and_force_replaces() {
@@ -17,27 +17,18 @@ fn append_continues_times_and_force_replaces() {
     let run = run_dir(tmp.path());
     let keep = ["--speed", "max", "--keep-every", "7"];
     let out = record_to_end(&seq, &run, &keep);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    assert!(String::from_utf8_lossy(&out.stdout).contains("end of source"));
+    out.assert_ok();
+    assert!(out.stdout.contains("end of source"));
 
     let refused = record_to_end(&seq, &run, &keep);
-    assert!(!refused.status.success());
-    let msg = String::from_utf8_lossy(&refused.stderr);
+    let msg = refused.failed();
     assert!(msg.contains("--append") && msg.contains("--force"), "{msg}");
 
     let mut args = keep.to_vec();
     args.push("--append");
     let out = record_to_end(&seq, &run, &args);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    assert!(String::from_utf8_lossy(&out.stdout).contains("continued"));
+    out.assert_ok();
+    assert!(out.stdout.contains("continued"));
 
     let rows = read_track(&run.join("track.csv")).unwrap().rows;
     assert_eq!(rows.len(), 60);
@@ -80,11 +71,7 @@ fn append_continues_times_and_force_replaces() {
     let mut args = keep.to_vec();
     args.push("--force");
     let out = record_to_end(&seq, &run, &args);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    out.assert_ok();
     assert_eq!(read_track(&run.join("track.csv")).unwrap().rows.len(), 30);
     assert_eq!(read_meta(&run.join("run.toml")).unwrap().sessions.len(), 1);
 }
@@ -96,13 +83,11 @@ fn bad_options_are_explained() {
     write_sequence(&seq, 3, 10.0);
     let run = run_dir(tmp.path());
     let out = record_to_end(&seq, &run, &["--speed", "fast"]);
-    assert!(!out.status.success());
-    assert!(String::from_utf8_lossy(&out.stderr).contains("'max'"));
+    assert!(out.failed().contains("'max'"));
     let out = record_to_end(&tmp.path().join("nowhere"), &run, &[]);
-    assert!(!out.status.success());
-    assert!(String::from_utf8_lossy(&out.stderr).contains("nowhere"));
+    assert!(out.failed().contains("nowhere"));
     // Nothing was created for a run that could not start.
     assert!(!run.exists());
     let out = record_to_end(&seq, &run, &["--append"]);
-    assert!(String::from_utf8_lossy(&out.stderr).contains("drop --append"));
+    assert!(out.stderr.contains("drop --append"));
 }

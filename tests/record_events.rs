@@ -1,12 +1,13 @@
 //! Events marked while a run records (here typed on standard input, as a script or a second program
 //! would) land in events.csv as `t_s,label` rows on the track's clock.
 
-mod record_support;
+mod support;
 
-use record_support::*;
 use spotlever::track::read_track;
 use std::io::Write;
 use std::time::Duration;
+use support::cli::Ran;
+use support::record::*;
 
 #[test]
 fn marked_events_are_written_and_quit_closes() {
@@ -23,10 +24,9 @@ fn marked_events_are_written_and_quit_closes() {
     writeln!(stdin, "hop").unwrap();
     std::thread::sleep(Duration::from_millis(300));
     writeln!(stdin, "q").unwrap();
-    let out = child.wait_with_output().unwrap();
-    let stdout = String::from_utf8_lossy(&out.stdout);
-    let stderr = String::from_utf8_lossy(&out.stderr);
-    assert!(out.status.success(), "{stdout}\n{stderr}");
+    let out = Ran::from(child.wait_with_output().unwrap());
+    let (stdout, stderr) = (&out.stdout, &out.stderr);
+    assert!(out.ok(), "{stdout}\n{stderr}");
     assert!(stdout.contains("(quit command)"), "{stdout}");
     assert!(stdout.contains("events      2 "), "{stdout}");
     assert!(stderr.contains("not a command: \"hop\""), "{stderr}");

@@ -2,9 +2,9 @@
 //! back; the gap is marked in the track and the run goes on with continuous frame numbers. Also: what
 //! a build or machine without a camera says.
 
-mod record_support;
+mod support;
 
-use record_support::*;
+use spotlever::track::read_track;
 use spotlever::frame::{Channel, Frame, Plane};
 use spotlever::record::feed::{OnFault, Opener};
 use spotlever::record::input::Controls;
@@ -13,10 +13,11 @@ use spotlever::record::session::{record, Display, SessionConfig, StoppedBy};
 use spotlever::source::{Delivery, FrameSource, SourceError, SourceInfo};
 use spotlever::spot::SpotConfig;
 use spotlever::synth::{render_flat_spot, FlatSpot, Sensor};
-use spotlever::track::read_track;
 use spotlever::units::{PixelPoint, Seconds};
 use std::sync::{Arc, Mutex};
 use std::time::{Duration, Instant};
+use support::cli::{bin, run, spotlever};
+use support::record::*;
 
 /// A camera stand-in: `frames` frames on the shared clock, then a read error (or, with `None`, for
 /// ever).
@@ -163,25 +164,21 @@ fn no_camera_is_said_plainly() {
                 .any(|e| e.file_name().to_string_lossy().starts_with("video"))
         })
         .unwrap_or(false);
-    let out = bin().args(["record", "--list-cameras"]).output().unwrap();
-    let msg = String::from_utf8_lossy(&out.stderr);
+    let out = spotlever(["record", "--list-cameras"]);
     if cfg!(feature = "camera") {
         if have_video {
             eprintln!("SKIP no_camera_is_said_plainly: this machine has a /dev/video* device");
             return;
         }
-        assert!(!out.status.success());
+        let msg = out.failed();
         assert!(msg.contains("no camera found"), "{msg}");
     } else {
-        assert!(!out.status.success());
+        let msg = out.failed();
         assert!(msg.contains("--features camera"), "{msg}");
         let tmp = tempfile::tempdir().unwrap();
-        let out = bin()
+        let out = run(bin()
             .args(["record", "--camera", "0", "--out"])
-            .arg(tmp.path().join("r"))
-            .output()
-            .unwrap();
-        assert!(!out.status.success());
-        assert!(String::from_utf8_lossy(&out.stderr).contains("no camera support"));
+            .arg(tmp.path().join("r")));
+        assert!(out.failed().contains("no camera support"));
     }
 }

@@ -1,13 +1,13 @@
 //! A replayed run killed with SIGKILL keeps every frame up to the last second before the kill, and its
 //! evidence frames reprocess with the run's times.
 
-mod record_support;
+mod support;
 
-use record_support::*;
+use spotlever::track::read_track;
 use spotlever::record::run_dir::read_meta;
 use spotlever::source::{self, Delivery, OpenOptions};
-use spotlever::track::read_track;
 use std::time::{Duration, SystemTime, UNIX_EPOCH};
+use support::record::*;
 
 #[test]
 fn sigkill_loses_at_most_the_last_second() {

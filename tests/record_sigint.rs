@@ -1,12 +1,13 @@
 //! SIGINT closes a replayed run cleanly: a complete track, the summary on standard output and the
 //! session's end in run.toml.
 
-mod record_support;
+mod support;
 
-use record_support::*;
-use spotlever::record::run_dir::read_meta;
 use spotlever::track::read_track;
+use spotlever::record::run_dir::read_meta;
 use std::time::Duration;
+use support::cli::Ran;
+use support::record::*;
 
 #[test]
 fn sigint_closes_with_summary() {
@@ -19,14 +20,9 @@ fn sigint_closes_with_summary() {
     // SAFETY: plain kill(2) on our own child's pid.
     let rc = unsafe { libc::kill(child.id() as libc::pid_t, libc::SIGINT) };
     assert_eq!(rc, 0);
-    let out = child.wait_with_output().unwrap();
-    let stdout = String::from_utf8_lossy(&out.stdout);
-    let stderr = String::from_utf8_lossy(&out.stderr);
-    assert!(
-        out.status.success(),
-        "exit {:?}\n{stdout}\n{stderr}",
-        out.status
-    );
+    let out = Ran::from(child.wait_with_output().unwrap());
+    let (stdout, stderr) = (&out.stdout, &out.stderr);
+    assert!(out.ok(), "exit {:?}\n{stdout}\n{stderr}", out.status);
     assert!(stdout.contains("(SIGINT)"), "{stdout}");
     assert!(stdout.contains("spot found"), "{stdout}");
     // Periodic status lines when not on a terminal.

@@ -1,13 +1,13 @@
 //! Image-sequence reading: natural order, times from times.csv or --fps, thinning, channels, and
 //! every bad input with the message it must give.
 
-mod source_support;
+mod support;
 
-use source_support::*;
 use spotlever::frame::Channel;
 use spotlever::source::{open, Delivery, OpenOptions};
 use spotlever::units::Seconds;
 use std::path::Path;
+use support::*;
 
 fn deliveries(dir: &Path, opts: &OpenOptions) -> Vec<Delivery> {
     let mut s = open(dir, opts).expect("open");

@@ -1,18 +1,18 @@
 //! `spotlever track` end to end: the track file, the summary, and every bad input with a clear
 //! message, a non-zero exit and no panic.
 
-mod source_support;
+mod support;
 
-use source_support::*;
-use spotlever::spot::SpotStatus;
 use spotlever::track::read_track;
+use spotlever::spot::SpotStatus;
 use std::path::Path;
-use std::process::{Command, Output};
+use support::cli::{bin, run, Ran};
+use support::*;
 
 /// Run `spotlever track`; `path_env` replaces PATH (`Some("")`: no ffmpeg program, and in a build
 /// with ffmpeg's libraries linked in, those are set aside too by asking for the built-in reader).
-fn track(args: &[&str], path_env: Option<&str>) -> Output {
-    let mut c = Command::new(env!("CARGO_BIN_EXE_spotlever"));
+fn track(args: &[&str], path_env: Option<&str>) -> Ran {
+    let mut c = bin();
     c.arg("track").args(args);
     if let Some(p) = path_env {
         c.env("PATH", p);
@@ -20,20 +20,7 @@ fn track(args: &[&str], path_env: Option<&str>) -> Output {
             c.args(["--decoder", "builtin"]);
         }
     }
-    c.output().expect("run spotlever")
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
-}
-
-fn fails_with(o: &Output, needles: &[&str]) {
-    let e = stderr(o);
-    assert!(!o.status.success(), "should fail: {e}");
-    assert!(!e.contains("panicked"), "panic: {e}");
-    for n in needles {
-        assert!(e.contains(n), "missing {n:?} in: {e}");
-    }
+    run(&mut c)
 }
 
 fn s(p: &Path) -> String {
@@ -48,8 +35,8 @@ fn tracks_a_sequence_and_writes_flushed_rows() {
     write_times(&frames, 10, 2.0);
     let out = d.path().join("track.csv");
     let o = track(&[&s(&frames), "--out", &s(&out)], None);
-    assert!(o.status.success(), "{}", stderr(&o));
-    assert!(stderr(&o).contains("10 frames"), "{}", stderr(&o));
+    assert!(o.ok(), "{}", o.stderr);
+    assert!(o.stderr.contains("10 frames"), "{}", o.stderr);
     let t = read_track(&out).unwrap();
     assert_eq!(t.rows.len(), 10);
     for (r, (cx, cy)) in t.rows.iter().zip(&truth) {
@@ -71,8 +58,8 @@ fn corrupt_image_gives_unreadable_row_and_is_counted() {
     std::fs::write(d.path().join("img2.png"), b"\x89PNG broken").unwrap();
     let out = d.path().join("t.csv");
     let o = track(&[&s(d.path()), "--fps", "5", "--out", &s(&out)], None);
-    assert!(o.status.success(), "{}", stderr(&o));
-    let e = stderr(&o);
+    assert!(o.ok(), "{}", o.stderr);
+    let e = o.stderr;
     assert!(e.contains("1 unreadable") && e.contains("img2.png"), "{e}");
     let t = read_track(&out).unwrap();
     assert_eq!(t.rows.len(), 6);
@@ -84,68 +71,38 @@ fn corrupt_image_gives_unreadable_row_and_is_counted() {
 fn bad_inputs_fail_clearly() {
     let d = tempfile::tempdir().unwrap();
     let out = s(&d.path().join("t.csv"));
-    fails_with(
-        &track(&[&s(&d.path().join("missing")), "--out", &out], None),
-        &["missing", "no such file"],
-    );
+    track(&[&s(&d.path().join("missing")), "--out", &out], None)
+        .fails_with(&["missing", "no such file"]);
     let empty = d.path().join("empty");
     std::fs::create_dir(&empty).unwrap();
-    fails_with(
-        &track(&[&s(&empty), "--fps", "1", "--out", &out], None),
-        &["empty", "no PNG"],
-    );
+    track(&[&s(&empty), "--fps", "1", "--out", &out], None).fails_with(&["empty", "no PNG"]);
 
     let f = d.path().join("f");
     write_png_frames(&f, 4, 64, 48);
-    fails_with(
-        &track(&[&s(&f), "--out", &out], None),
-        &["--times", "--fps"],
-    );
-    fails_with(
-        &track(
-            &[&s(&f), "--fps", "1", "--roi", "40,10,30,10", "--out", &out],
-            None,
-        ),
-        &["--roi 40,10,30,10", "64x48"],
-    );
-    fails_with(
-        &track(
-            &[&s(&f), "--fps", "1", "--roi", "1,2,3", "--out", &out],
-            None,
-        ),
-        &["X,Y,W,H"],
-    );
+    track(&[&s(&f), "--out", &out], None).fails_with(&["--times", "--fps"]);
+    track(
+        &[&s(&f), "--fps", "1", "--roi", "40,10,30,10", "--out", &out],
+        None,
+    )
+    .fails_with(&["--roi 40,10,30,10", "64x48"]);
+    track(
+        &[&s(&f), "--fps", "1", "--roi", "1,2,3", "--out", &out],
+        None,
+    )
+    .fails_with(&["X,Y,W,H"]);
     std::fs::write(
         f.join("times.csv"),
         "file,t_s\nimg0.png,0\nimg1.png,-1\nimg2.png,2\nimg3.png,3\n",
     )
     .unwrap();
-    fails_with(
-        &track(&[&s(&f), "--out", &out], None),
-        &["times.csv, line 3"],
-    );
+    track(&[&s(&f), "--out", &out], None).fails_with(&["times.csv, line 3"]);
     std::fs::write(f.join("times.csv"), "file;t_s\n").unwrap();
-    fails_with(
-        &track(&[&s(&f), "--out", &out], None),
-        &["times.csv, line 1"],
-    );
+    track(&[&s(&f), "--out", &out], None).fails_with(&["times.csv, line 1"]);
     std::fs::remove_file(f.join("times.csv")).unwrap();
     image::GrayImage::new(50, 48)
         .save(f.join("img1.png"))
         .unwrap();
-    fails_with(
-        &track(&[&s(&f), "--fps", "1", "--out", &out], None),
-        &["img1.png", "50x48", "64x48"],
-    );
-}
-
-/// The committed clip cut to its first 60 % as `dir/cut.mp4`. The clip has its index first
-/// (faststart), so cutting the tail loses only the last frames.
-fn cut_clip(dir: &Path) -> std::path::PathBuf {
-    let clip = dir.join("cut.mp4");
-    let whole = std::fs::read(committed_clip()).unwrap();
-    std::fs::write(&clip, &whole[..whole.len() * 6 / 10]).unwrap();
-    clip
+    track(&[&s(&f), "--fps", "1", "--out", &out], None).fails_with(&["img1.png", "50x48", "64x48"]);
 }
 
 #[test]
@@ -159,7 +116,7 @@ fn truncated_video_keeps_rows_and_says_where_it_stopped() {
     }
     for (decoder, path) in runs {
         let o = track(&[&s(&clip), "--decoder", decoder, "--out", &s(&out)], path);
-        fails_with(&o, &["cut.mp4", "decoding stopped after", "truncated"]);
+        o.fails_with(&["cut.mp4", "decoding stopped after", "truncated"]);
         let rows = read_track(&out).unwrap().rows;
         assert!(
             rows.len() >= 5 && rows.len() < 30,
@@ -167,9 +124,9 @@ fn truncated_video_keeps_rows_and_says_where_it_stopped() {
             rows.len()
         );
         assert!(
-            stderr(&o).contains(&format!("{} frames", rows.len())),
+            o.stderr.contains(&format!("{} frames", rows.len())),
             "{}",
-            stderr(&o)
+            o.stderr
         );
     }
 }
@@ -196,8 +153,8 @@ fn truncated_video_read_by_key_frames_only_says_where_it_stopped() {
         ],
         None,
     );
-    fails_with(&o, &["cut.mp4", "truncated", "index lists 30 frames"]);
-    assert!(stderr(&o).contains("key frames only"), "{}", stderr(&o));
+    o.fails_with(&["cut.mp4", "truncated", "index lists 30 frames"]);
+    assert!(o.stderr.contains("key frames only"), "{}", o.stderr);
     let rows = read_track(&out).unwrap().rows;
     assert!(!rows.is_empty() && rows.len() <= 2, "{} rows", rows.len());
 }
@@ -208,8 +165,8 @@ fn without_ffmpeg_the_builtin_reader_is_used_and_refuses_what_it_cannot_decode()
     let out = s(&d.path().join("t.csv"));
     // An empty PATH: no ffmpeg, so the committed Baseline clip goes through the built-in reader.
     let o = track(&[&s(&committed_clip()), "--out", &out], Some(""));
-    assert!(o.status.success(), "{}", stderr(&o));
-    assert!(stderr(&o).contains("built-in decoder"), "{}", stderr(&o));
+    assert!(o.ok(), "{}", o.stderr);
+    assert!(o.stderr.contains("built-in decoder"), "{}", o.stderr);
     assert_eq!(read_track(Path::new(&out)).unwrap().rows.len(), 30);
 
     if !ffmpeg_or_skip("without_ffmpeg_... (clips made by ffmpeg)") {
@@ -224,16 +181,15 @@ fn without_ffmpeg_the_builtin_reader_is_used_and_refuses_what_it_cannot_decode()
         &["-c:v", "libx264", "-pix_fmt", "yuv420p"],
         &bframes,
     );
-    fails_with(
-        &track(&[&s(&bframes), "--out", &out], Some("")),
-        &["B-frames", "install the ffmpeg program"],
-    );
+    track(&[&s(&bframes), "--out", &out], Some(""))
+        .fails_with(&["B-frames", "install the ffmpeg program"]);
     let avi = d.path().join("cam.avi");
     encode_pngs(&f, 10, &["-c:v", "mjpeg", "-pix_fmt", "yuvj420p"], &avi);
-    fails_with(
-        &track(&[&s(&avi), "--out", &out], Some("")),
-        &["AVI", "MJPG", "install the ffmpeg program"],
-    );
+    track(&[&s(&avi), "--out", &out], Some("")).fails_with(&[
+        "AVI",
+        "MJPG",
+        "install the ffmpeg program",
+    ]);
     let hevc = d.path().join("phone.mp4");
     encode_pngs(
         &f,
@@ -248,14 +204,12 @@ fn without_ffmpeg_the_builtin_reader_is_used_and_refuses_what_it_cannot_decode()
         ],
         &hevc,
     );
-    fails_with(
-        &track(&[&s(&hevc), "--out", &out], Some("")),
-        &["HEVC", "install the ffmpeg program"],
-    );
+    track(&[&s(&hevc), "--out", &out], Some(""))
+        .fails_with(&["HEVC", "install the ffmpeg program"]);
     // And with ffmpeg the same files are read.
     for clip in [&bframes, &avi, &hevc] {
         let o = track(&[&s(clip), "--out", &out], None);
-        assert!(o.status.success(), "{}: {}", clip.display(), stderr(&o));
+        assert!(o.ok(), "{}: {}", clip.display(), o.stderr);
         assert_eq!(
             read_track(Path::new(&out)).unwrap().rows.len(),
             12,
@@ -271,15 +225,10 @@ fn not_a_video_is_refused_with_the_reason() {
     let junk = d.path().join("junk.mp4");
     std::fs::write(&junk, vec![7u8; 5000]).unwrap();
     let out = s(&d.path().join("t.csv"));
-    fails_with(
-        &track(&[&s(&junk), "--decoder", "builtin", "--out", &out], None),
-        &["junk.mp4", "install the ffmpeg program"],
-    );
+    track(&[&s(&junk), "--decoder", "builtin", "--out", &out], None)
+        .fails_with(&["junk.mp4", "install the ffmpeg program"]);
     if ffmpeg_or_skip("not_a_video_is_refused_with_the_reason (ffmpeg part)") {
-        fails_with(
-            &track(&[&s(&junk), "--out", &out], None),
-            &["junk.mp4", "cannot read it"],
-        );
+        track(&[&s(&junk), "--out", &out], None).fails_with(&["junk.mp4", "cannot read it"]);
     }
 }
 
@@ -322,7 +271,7 @@ fn calibration_adds_screen_millimetres_and_must_match_the_image_size() {
         ],
         None,
     );
-    assert!(o.status.success(), "{}", stderr(&o));
+    assert!(o.ok(), "{}", o.stderr);
     let t = read_track(&out).unwrap();
     assert!(t.has_mm);
     for r in &t.rows {
@@ -345,5 +294,5 @@ fn calibration_adds_screen_millimetres_and_must_match_the_image_size() {
         ],
         None,
     );
-    fails_with(&o, &["other.toml", "1920"]);
+    o.fails_with(&["other.toml", "1920"]);
 }

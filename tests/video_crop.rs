@@ -3,15 +3,15 @@
 //! (the decoder's luma plane, ffmpeg's gray conversion, packed RGB), and tracking them gives the same
 //! positions, in the whole picture's pixels, as looking inside the same ROI of whole pictures.
 
-mod source_support;
+mod support;
 
-use source_support::*;
 use spotlever::frame::{Channel, Frame, Roi};
 use spotlever::source::{open, OpenOptions, SourceError, VideoDecoder};
 use spotlever::spot::{SpotConfig, Tracker};
 use spotlever::track::{run_tracker, ScreenMap};
 use std::path::Path;
-use std::process::Command;
+use support::cli::bin;
+use support::*;
 
 const W: usize = 160;
 const H: usize = 120;
@@ -36,10 +36,7 @@ fn opts(channel: Channel, crop: Option<Roi>) -> OpenOptions {
 
 /// A clip of the test frames encoded with `args`.
 fn clip(dir: &Path, name: &str, args: &[&str]) -> std::path::PathBuf {
-    write_png_frames(dir, N, W, H);
-    let out = dir.join(name);
-    encode_pngs(dir, 10, args, &out);
-    out
+    frames_clip(dir, N, (W, H), name, args)
 }
 
 /// Each cropped plane against the same rectangle of the uncropped plane, pixel by pixel.
@@ -198,16 +195,15 @@ fn track_with_roi_cuts_in_ffmpeg_and_writes_whole_picture_pixels() {
     let clip = committed_clip();
     let out = |name: &str, decoder: &str| {
         let csv = d.path().join(name);
-        let o = Command::new(env!("CARGO_BIN_EXE_spotlever"))
-            .arg("track")
-            .arg(&clip)
-            .args(["--roi", "20,15,121,91", "--decoder", decoder, "--out"])
-            .arg(&csv)
-            .output()
-            .unwrap();
-        let err = String::from_utf8_lossy(&o.stderr).into_owned();
-        assert!(o.status.success(), "{err}");
-        (std::fs::read_to_string(&csv).unwrap(), err)
+        let o = support::cli::run(
+            bin()
+                .arg("track")
+                .arg(&clip)
+                .args(["--roi", "20,15,121,91", "--decoder", decoder, "--out"])
+                .arg(&csv),
+        );
+        assert!(o.ok(), "{}", o.stderr);
+        (std::fs::read_to_string(&csv).unwrap(), o.stderr)
     };
     let (cut, said) = out("cut.csv", "ffmpeg");
     assert!(said.contains("121x91 rectangle at (20, 15)"), "{said}");

@@ -5,23 +5,20 @@
 //! these tests need it; without the feature this file compiles to nothing.
 #![cfg(feature = "linked-ffmpeg")]
 
-mod source_support;
+mod support;
 
-use source_support::*;
 use spotlever::frame::{Channel, Frame, Roi};
 use spotlever::source::{LinkedSource, OpenOptions, SourceError, VideoDecoder};
 use spotlever::units::Seconds;
 use std::path::{Path, PathBuf};
+use support::*;
 
 const W: usize = 160;
 const H: usize = 120;
 
 /// `n` test frames at 10 fps encoded with `args` into `dir/name`.
 fn clip(dir: &Path, n: usize, name: &str, args: &[&str]) -> PathBuf {
-    write_png_frames(dir, n, W, H);
-    let out = dir.join(name);
-    encode_pngs(dir, 10, args, &out);
-    out
+    frames_clip(dir, n, (W, H), name, args)
 }
 
 /// Both decoders on `path` with `o` (decoder field overridden): frames and ending errors.
@@ -168,45 +165,25 @@ fn every_keeps_the_frames_a_full_decode_keeps() {
     if !ffmpeg_or_skip("every_keeps_the_frames_a_full_decode_keeps") {
         return;
     }
-    let gop = |extra: &[&str]| {
-        let mut a = vec![
-            "-c:v",
-            "libx264",
-            "-pix_fmt",
-            "yuv420p",
-            "-g",
-            "10",
-            "-keyint_min",
-            "10",
-            "-sc_threshold",
-            "0",
-        ];
-        a.extend_from_slice(extra);
-        a.into_iter().map(String::from).collect::<Vec<_>>()
-    };
     // With B-frames; without, starting at 0.5 s in a 1/30000 time base; sparse key frames.
     let cases: [(&str, Vec<String>, bool); 3] = [
-        ("b.mp4", gop(&[]), true),
+        ("b.mp4", gop_args(10, &[]), true),
         (
             "late.mp4",
-            gop(&[
-                "-bf",
-                "0",
-                "-video_track_timescale",
-                "30000",
-                "-output_ts_offset",
-                "0.5",
-            ]),
+            gop_args(
+                10,
+                &[
+                    "-bf",
+                    "0",
+                    "-video_track_timescale",
+                    "30000",
+                    "-output_ts_offset",
+                    "0.5",
+                ],
+            ),
             true,
         ),
-        (
-            "sparse.mp4",
-            gop(&[])
-                .into_iter()
-                .map(|a| if a == "10" { "25".into() } else { a })
-                .collect(),
-            false,
-        ),
+        ("sparse.mp4", gop_args(25, &[]), false),
     ];
     for (name, args, key_only) in cases {
         let d = tempfile::tempdir().unwrap();
@@ -247,14 +224,6 @@ fn variable_frame_rate_times_match_the_ffmpeg_program() {
             f.t.0
         );
     }
-}
-
-/// The committed 30-frame clip cut to 60 % of its bytes.
-fn cut_clip(dir: &Path) -> PathBuf {
-    let path = dir.join("cut.mp4");
-    let whole = std::fs::read(committed_clip()).unwrap();
-    std::fs::write(&path, &whole[..whole.len() * 6 / 10]).unwrap();
-    path
 }
 
 #[test]

@@ -2,12 +2,11 @@
 //! decoded (and read as widened from studio range here) against ffmpeg's scaler asked for a gray
 //! picture, for limited- and full-range clips.
 
-mod source_support;
+mod support;
 
-use source_support::*;
 use spotlever::source::{OpenOptions, VideoDecoder};
 use std::path::Path;
-use std::process::Command;
+use support::*;
 
 const W: usize = 160;
 const H: usize = 120;
@@ -23,22 +22,18 @@ fn ffmpeg_opts() -> OpenOptions {
 /// Every frame of `clip` as ffmpeg's scaler makes it gray (`-pix_fmt gray`), the conversion the
 /// reader used to ask ffmpeg for.
 fn scaler_gray(clip: &Path) -> Vec<Vec<u8>> {
-    let out = Command::new("ffmpeg")
-        .args(["-hide_banner", "-loglevel", "error", "-i"])
-        .arg(clip)
-        .args([
-            "-vsync",
-            "passthrough",
-            "-f",
-            "rawvideo",
-            "-pix_fmt",
-            "gray",
-            "pipe:1",
-        ])
-        .output()
-        .expect("run ffmpeg");
-    assert!(out.status.success(), "ffmpeg gray conversion failed");
-    out.stdout.chunks_exact(W * H).map(<[u8]>::to_vec).collect()
+    let gray = ffmpeg(&[
+        "-i",
+        &clip.to_string_lossy(),
+        "-vsync",
+        "passthrough",
+        "-f",
+        "rawvideo",
+        "-pix_fmt",
+        "gray",
+        "pipe:1",
+    ]);
+    gray.chunks_exact(W * H).map(<[u8]>::to_vec).collect()
 }
 
 /// Largest absolute difference between the reader's planes and ffmpeg's gray pictures.
@@ -62,11 +57,9 @@ fn worst_difference(clip: &Path) -> (u16, usize) {
 /// Encode the test frames with libx264 at pixel format `pix_fmt` (plus `extra`) and compare.
 fn encoded_difference(pix_fmt: &str, extra: &[&str]) -> (u16, usize) {
     let d = tempfile::tempdir().unwrap();
-    write_png_frames(d.path(), N, W, H);
-    let clip = d.path().join(format!("{pix_fmt}.mp4"));
     let mut args = vec!["-c:v", "libx264", "-pix_fmt", pix_fmt];
     args.extend_from_slice(extra);
-    encode_pngs(d.path(), 10, &args, &clip);
+    let clip = frames_clip(d.path(), N, (W, H), &format!("{pix_fmt}.mp4"), &args);
     worst_difference(&clip)
 }
 

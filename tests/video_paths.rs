@@ -2,13 +2,13 @@
 //! default-settings clip with B-frames, the built-in path on the committed Baseline clip, key-frame
 //! thinning, and agreement with the same frames read from PNG.
 
-mod source_support;
+mod support;
 
-use source_support::*;
 use spotlever::frame::{Channel, Frame, Plane};
 use spotlever::source::{FfmpegSource, OpenOptions, VideoDecoder};
 use spotlever::units::Seconds;
 use std::path::Path;
+use support::*;
 
 const W: usize = 160;
 const H: usize = 120;
@@ -60,26 +60,6 @@ fn compare(dir: &Path, frames: &[Frame]) -> (f64, f64) {
     ((se / n).sqrt(), (sv / n).sqrt())
 }
 
-fn has_b_frames(clip: &Path) -> bool {
-    let out = std::process::Command::new("ffprobe")
-        .args([
-            "-v",
-            "error",
-            "-select_streams",
-            "v:0",
-            "-show_entries",
-            "frame=pict_type",
-            "-of",
-            "csv=p=0",
-        ])
-        .arg(clip)
-        .output()
-        .expect("ffprobe");
-    String::from_utf8_lossy(&out.stdout)
-        .lines()
-        .any(|l| l.trim() == "B")
-}
-
 #[test]
 fn ffmpeg_path_reads_default_x264_clip_with_b_frames_like_the_pngs() {
     if !ffmpeg_or_skip("ffmpeg_path_reads_default_x264_clip_with_b_frames_like_the_pngs") {
@@ -87,13 +67,12 @@ fn ffmpeg_path_reads_default_x264_clip_with_b_frames_like_the_pngs() {
     }
     let d = tempfile::tempdir().unwrap();
     let n = 40;
-    write_png_frames(d.path(), n, W, H);
-    let clip = d.path().join("default.mp4");
-    encode_pngs(
+    let clip = frames_clip(
         d.path(),
-        10,
+        n,
+        (W, H),
+        "default.mp4",
         &["-c:v", "libx264", "-pix_fmt", "yuv420p"],
-        &clip,
     );
     assert!(
         has_b_frames(&clip),
@@ -171,24 +150,9 @@ fn builtin_and_ffmpeg_decode_the_baseline_clip_alike() {
 /// `n` test frames at 10 fps encoded by libx264 with a key frame every `gop` frames, plus `extra`
 /// encoder arguments.
 fn gop_clip(dir: &Path, n: usize, gop: u32, extra: &[&str]) -> std::path::PathBuf {
-    write_png_frames(dir, n, W, H);
-    let clip = dir.join(format!("gop{gop}.mp4"));
-    let g = gop.to_string();
-    let mut args = vec![
-        "-c:v",
-        "libx264",
-        "-pix_fmt",
-        "yuv420p",
-        "-g",
-        &g,
-        "-keyint_min",
-        &g,
-        "-sc_threshold",
-        "0",
-    ];
-    args.extend_from_slice(extra);
-    encode_pngs(dir, 10, &args, &clip);
-    clip
+    let args = gop_args(gop, extra);
+    let args: Vec<&str> = args.iter().map(String::as_str).collect();
+    frames_clip(dir, n, (W, H), &format!("gop{gop}.mp4"), &args)
 }
 
 #[test]

@@ -1,7 +1,7 @@
-//! Shared pieces of the recorder's tests: a synthetic image sequence with known spot positions and
-//! times, and helpers to run the `spotlever` binary.
-#![allow(dead_code)]
+//! The recorder's tests' pieces: a synthetic image sequence with known spot positions and times,
+//! and `spotlever record` on it, run to its end or started with piped standard streams.
 
+use super::cli::{bin, run, Ran};
 use spotlever::synth::{render_flat_spot, FlatSpot, Sensor};
 use spotlever::units::PixelPoint;
 use std::path::{Path, PathBuf};
@@ -56,22 +56,21 @@ pub fn write_sequence(dir: &Path, n: usize, fps: f64) -> Vec<f64> {
     ts
 }
 
-pub fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_spotlever"))
-}
-
-/// `spotlever record --source SEQ --out RUN` plus `extra`, run to the end.
-pub fn record_to_end(seq: &Path, run: &Path, extra: &[&str]) -> std::process::Output {
-    bin()
-        .arg("record")
+/// `spotlever record --source SEQ --out RUN` plus `extra`.
+fn record_command(seq: &Path, out: &Path, extra: &[&str]) -> Command {
+    let mut c = bin();
+    c.arg("record")
         .arg("--source")
         .arg(seq)
         .arg("--out")
-        .arg(run)
-        .args(extra)
-        .stdin(Stdio::null())
-        .output()
-        .unwrap()
+        .arg(out)
+        .args(extra);
+    c
+}
+
+/// `spotlever record --source SEQ --out RUN` plus `extra`, run to the end.
+pub fn record_to_end(seq: &Path, out: &Path, extra: &[&str]) -> Ran {
+    run(record_command(seq, out, extra).stdin(Stdio::null()))
 }
 
 /// Wait until `path` holds at least `rows` lines (header included), or panic after `limit`.
@@ -93,19 +92,14 @@ pub fn wait_for_lines(path: &Path, rows: usize, limit: Duration) {
     }
 }
 
+/// The run folder of a test: `TMP/run`.
 pub fn run_dir(tmp: &Path) -> PathBuf {
     tmp.join("run")
 }
 
 /// Start `spotlever record --source SEQ --out RUN` plus `extra` with piped standard streams.
-pub fn spawn_record(seq: &Path, run: &Path, extra: &[&str]) -> std::process::Child {
-    bin()
-        .arg("record")
-        .arg("--source")
-        .arg(seq)
-        .arg("--out")
-        .arg(run)
-        .args(extra)
+pub fn spawn_record(seq: &Path, out: &Path, extra: &[&str]) -> std::process::Child {
+    record_command(seq, out, extra)
         .stdin(Stdio::piped())
         .stdout(Stdio::piped())
         .stderr(Stdio::piped())

@@ -1,12 +1,9 @@
-//! Helpers shared by the source, video and track tests: rendered test frames with known spot
-//! centres, an ffmpeg gate that skips loudly (or fails when SPOTLEVER_REQUIRE_FFMPEG=1), and small
-//! wrappers around the `ffmpeg` program.
-#![allow(dead_code)]
+//! Rendered test frames with known spot centres for the source, video and track tests, written as
+//! PNG sequences, and reading every frame of a source back.
 
 use spotlever::synth::{render_flat_spot, FlatSpot, Sensor};
 use spotlever::units::PixelPoint;
-use std::path::{Path, PathBuf};
-use std::process::Command;
+use std::path::Path;
 
 /// A synthesizer frame: Gaussian spot sigma 2.5 px, peak 180 DN over 40 DN, noise 2 DN, 8-bit.
 pub fn render_gray(w: usize, h: usize, cx: f64, cy: f64, seed: u64) -> Vec<u8> {
@@ -58,76 +55,6 @@ pub fn write_times(dir: &Path, n: usize, fps: f64) {
     std::fs::write(dir.join("times.csv"), s).expect("write times");
 }
 
-/// Whether the ffmpeg program can be used; prints a SKIP line when not, and fails the test instead
-/// when SPOTLEVER_REQUIRE_FFMPEG=1.
-pub fn ffmpeg_or_skip(test: &str) -> bool {
-    if spotlever::source::ffmpeg_available() {
-        return true;
-    }
-    if std::env::var("SPOTLEVER_REQUIRE_FFMPEG").as_deref() == Ok("1") {
-        panic!("{test}: ffmpeg/ffprobe not on PATH but SPOTLEVER_REQUIRE_FFMPEG=1");
-    }
-    eprintln!(
-        "SKIP {test}: ffmpeg not on PATH (set SPOTLEVER_REQUIRE_FFMPEG=1 to make this a failure)"
-    );
-    false
-}
-
-/// Run ffmpeg with `args`, panicking with its stderr on failure (test set-up only).
-pub fn ffmpeg(args: &[&str]) {
-    let out = Command::new("ffmpeg")
-        .args(["-hide_banner", "-loglevel", "error", "-y"])
-        .args(args)
-        .output()
-        .expect("run ffmpeg");
-    assert!(
-        out.status.success(),
-        "ffmpeg {:?} failed: {}",
-        args,
-        String::from_utf8_lossy(&out.stderr)
-    );
-}
-
-/// Encode `dir/img%d.png` at `fps` into `out` with extra encoder arguments.
-pub fn encode_pngs(dir: &Path, fps: u32, extra: &[&str], out: &Path) {
-    let pattern = dir.join("img%d.png");
-    let rate = fps.to_string();
-    let mut args: Vec<&str> = vec!["-framerate", &rate, "-i"];
-    let p = pattern.to_string_lossy().into_owned();
-    let o = out.to_string_lossy().into_owned();
-    args.push(&p);
-    args.extend_from_slice(extra);
-    args.push(&o);
-    ffmpeg(&args);
-}
-
-/// A variable-frame-rate Matroska clip of `n` frames in `dir` and the true presentation time of each.
-/// Input at 20 fps (time base 1/20 s), re-timed to pts = 2i + 3 floor(i/2): gaps of 0.1 and 0.25 s
-/// alternate. Matroska stores milliseconds.
-pub fn vfr_clip(dir: &Path, n: usize, w: usize, h: usize) -> (PathBuf, Vec<f64>) {
-    write_png_frames(dir, n, w, h);
-    let clip = dir.join("vfr.mkv");
-    encode_pngs(
-        dir,
-        20,
-        &[
-            "-vf",
-            "setpts=2*N+3*floor(N/2)",
-            "-vsync",
-            "passthrough",
-            "-c:v",
-            "libx264",
-            "-pix_fmt",
-            "yuv420p",
-        ],
-        &clip,
-    );
-    let truth = (0..n)
-        .map(|i| (2 * i + 3 * (i / 2)) as f64 / 20.0)
-        .collect();
-    (clip, truth)
-}
-
 /// The spot position the project's tracker reports for each plane, in order (fresh tracker per run).
 pub fn track_positions(planes: &[&spotlever::frame::Plane]) -> Vec<(f64, f64)> {
     let mut t = spotlever::spot::Tracker::new(spotlever::spot::SpotConfig::default());
@@ -170,8 +97,4 @@ pub fn frames_of(
         }
     }
     (out, None)
-}
-
-pub fn committed_clip() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/baseline_160x120.mp4")
 }
