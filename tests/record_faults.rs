@@ -4,7 +4,6 @@
 
 mod support;
 
-use spotlever::track::read_track;
 use spotlever::frame::{Channel, Frame, Plane};
 use spotlever::record::feed::{OnFault, Opener};
 use spotlever::record::input::Controls;
@@ -13,6 +12,7 @@ use spotlever::record::session::{record, Display, SessionConfig, StoppedBy};
 use spotlever::source::{Delivery, FrameSource, SourceError, SourceInfo};
 use spotlever::spot::SpotConfig;
 use spotlever::synth::{render_flat_spot, FlatSpot, Sensor};
+use spotlever::track::read_track;
 use spotlever::units::{PixelPoint, Seconds};
 use std::sync::{Arc, Mutex};
 use std::time::{Duration, Instant};

@@ -3,9 +3,9 @@
 
 mod support;
 
-use spotlever::track::read_track;
 use spotlever::record::run_dir::read_meta;
 use spotlever::source::{self, Delivery, OpenOptions};
+use spotlever::track::read_track;
 use std::time::{Duration, SystemTime, UNIX_EPOCH};
 use support::record::*;
 

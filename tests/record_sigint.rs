@@ -3,8 +3,8 @@
 
 mod support;
 
-use spotlever::track::read_track;
 use spotlever::record::run_dir::read_meta;
+use spotlever::track::read_track;
 use std::time::Duration;
 use support::cli::Ran;
 use support::record::*;

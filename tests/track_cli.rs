@@ -3,8 +3,8 @@
 
 mod support;
 
-use spotlever::track::read_track;
 use spotlever::spot::SpotStatus;
+use spotlever::track::read_track;
 use std::path::Path;
 use support::cli::{bin, run, Ran};
 use support::*;

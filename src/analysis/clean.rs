@@ -3,8 +3,8 @@
 
 use super::segments::Event;
 use super::{AnalysisError, Sample};
-use crate::track::TrackFile;
 use crate::lever::Lever;
+use crate::track::TrackFile;
 
 /// Twist angles from a track's screen positions through the lever. Rows without a position (lost
 /// spot) are left out: they are gaps. Returns the samples and the number of rows left out.

@@ -5,8 +5,8 @@ use anyhow::Context;
 use clap::Args;
 use spotlever::analysis::{self, AnalysisOptions, Summary};
 use spotlever::export::write_results;
-use spotlever::track::read_track;
 use spotlever::setup::Setup;
+use spotlever::track::read_track;
 use std::path::PathBuf;
 
 #[derive(Debug, Args)]
