@@ -10,7 +10,7 @@ use spotlever::spot::{SpotFix, SpotStatus};
 use spotlever::track::{TrackRow, TrackWriter};
 use spotlever::units::{PixelPoint, Radians, ScreenPoint, Seconds};
 use std::path::Path;
-use support::cli::spotlever;
+use support::cli::{spotlever, Ran};
 
 fn write_track(path: &Path, with_mm: bool) {
     let r = run(5, 3.0, 4.0, 2e-5, 1e-10, 5);
@@ -47,18 +47,22 @@ fn write_track(path: &Path, with_mm: bool) {
     }
 }
 
-/// `spotlever analyze TRACK --setup SETUP --out DIR`, expected to fail; returns its stderr.
-fn analyze_fails(track: &Path, setup: &Path, out: &Path) -> String {
-    spotlever([
+/// `spotlever analyze TRACK --setup SETUP --out DIR` plus `extra`.
+fn analyze(track: &Path, setup: &Path, out: &Path, extra: &[&str]) -> Ran {
+    let args = [
         "analyze",
         track.to_str().unwrap(),
         "--setup",
         setup.to_str().unwrap(),
         "--out",
         out.to_str().unwrap(),
-    ])
-    .failed()
-    .to_owned()
+    ];
+    spotlever(args.iter().chain(extra))
+}
+
+/// `spotlever analyze TRACK --setup SETUP --out DIR`, expected to fail; returns its stderr.
+fn analyze_fails(track: &Path, setup: &Path, out: &Path) -> String {
+    analyze(track, setup, out, &[]).failed().to_owned()
 }
 
 #[test]
@@ -69,16 +73,7 @@ fn analyze_writes_all_outputs_and_recovers_g() {
     let out = dir.path().join("out");
     write_track(&track, true);
     std::fs::write(&setup, EXACT_SETUP).unwrap();
-    let o = spotlever([
-        "analyze",
-        track.to_str().unwrap(),
-        "--setup",
-        setup.to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-        "--draws",
-        "100000",
-    ]);
+    let o = analyze(&track, &setup, &out, &["--draws", "100000"]);
     let stdout = &o.stdout;
     eprintln!("{stdout}{}", o.stderr);
     assert!(o.ok());

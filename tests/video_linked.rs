@@ -168,21 +168,7 @@ fn every_keeps_the_frames_a_full_decode_keeps() {
     // With B-frames; without, starting at 0.5 s in a 1/30000 time base; sparse key frames.
     let cases: [(&str, Vec<String>, bool); 3] = [
         ("b.mp4", gop_args(10, &[]), true),
-        (
-            "late.mp4",
-            gop_args(
-                10,
-                &[
-                    "-bf",
-                    "0",
-                    "-video_track_timescale",
-                    "30000",
-                    "-output_ts_offset",
-                    "0.5",
-                ],
-            ),
-            true,
-        ),
+        ("late.mp4", gop_args(10, &LATE_START), true),
         ("sparse.mp4", gop_args(25, &[]), false),
     ];
     for (name, args, key_only) in cases {

@@ -183,15 +183,7 @@ fn every_passes_key_frames_on_when_there_are_no_b_frames() {
     // No B-frames (the key-frame packets go through a second container to the decoder), with
     // timestamps starting at 0.5 s in a 1/30000 time base, so the times must survive the copy.
     let d = tempfile::tempdir().unwrap();
-    let late = [
-        "-bf",
-        "0",
-        "-video_track_timescale",
-        "30000",
-        "-output_ts_offset",
-        "0.5",
-    ];
-    let clip = gop_clip(d.path(), 45, 10, &late);
+    let clip = gop_clip(d.path(), 45, 10, &LATE_START);
     assert!(!has_b_frames(&clip));
     let thin = OpenOptions {
         every: Some(Seconds(1.0)),

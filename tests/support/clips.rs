@@ -80,6 +80,17 @@ pub fn frames_clip(
     out
 }
 
+/// Encoder arguments for a clip without B-frames whose timestamps start at 0.5 s in a 1/30000
+/// time base (times that must survive being copied between containers).
+pub const LATE_START: [&str; 6] = [
+    "-bf",
+    "0",
+    "-video_track_timescale",
+    "30000",
+    "-output_ts_offset",
+    "0.5",
+];
+
 /// libx264 arguments for a key frame every `gop` frames (no extra ones at scene cuts), then `extra`.
 pub fn gop_args(gop: u32, extra: &[&str]) -> Vec<String> {
     let g = gop.to_string();
