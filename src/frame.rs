@@ -40,6 +40,27 @@ impl Roi {
     }
 }
 
+impl std::str::FromStr for Roi {
+    type Err = String;
+
+    /// `X,Y,W,H` in whole pixels, with W and H above zero.
+    fn from_str(s: &str) -> Result<Self, Self::Err> {
+        let v: Vec<&str> = s.split(',').map(str::trim).collect();
+        let nums: Option<Vec<usize>> = v.iter().map(|x| x.parse().ok()).collect();
+        match nums.as_deref() {
+            Some(&[x, y, width, height]) if width > 0 && height > 0 => Ok(Roi {
+                x,
+                y,
+                width,
+                height,
+            }),
+            _ => Err(format!(
+                "{s:?} is not X,Y,W,H in whole pixels with W and H above zero (e.g. 100,50,640,480)"
+            )),
+        }
+    }
+}
+
 /// Which colour channel becomes the plane. A red laser is seen best in `Red`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize, clap::ValueEnum)]
 #[serde(rename_all = "lowercase")]
@@ -371,6 +392,24 @@ pub struct Frame {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn roi_parses_four_whole_pixel_numbers_and_refuses_anything_else() {
+        let r: Roi = " 100, 50,640 ,480".parse().unwrap();
+        assert_eq!((r.x, r.y, r.width, r.height), (100, 50, 640, 480));
+        for bad in [
+            "1,2,3",
+            "1,2,0,4",
+            "1,2,3,0",
+            "1,2,3,4,5",
+            "-1,2,3,4",
+            "1.5,2,3,4",
+            "",
+        ] {
+            let e = bad.parse::<Roi>().unwrap_err();
+            assert!(e.contains("X,Y,W,H") && e.contains(&format!("{bad:?}")));
+        }
+    }
 
     #[test]
     fn eight_bit_buffer_is_kept_and_given_back() {

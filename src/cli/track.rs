@@ -34,7 +34,7 @@ pub struct TrackArgs {
     /// Only look inside this rectangle of the image, in pixels. Videos read by ffmpeg are cut to it
     /// before the pictures reach spotlever, which is faster (a band along the scale is enough for an
     /// optical lever); positions are still whole-picture pixels.
-    #[arg(long, value_name = "X,Y,W,H", value_parser = parse_roi)]
+    #[arg(long, value_name = "X,Y,W,H")]
     pub roi: Option<Roi>,
     /// Which video decoder to use.
     #[arg(long, value_enum, default_value_t = VideoDecoder::Auto)]
@@ -42,22 +42,6 @@ pub struct TrackArgs {
     /// The track file to write (CSV).
     #[arg(long, value_name = "FILE")]
     pub out: PathBuf,
-}
-
-fn parse_roi(s: &str) -> Result<Roi, String> {
-    let v: Vec<&str> = s.split(',').map(str::trim).collect();
-    let nums: Option<Vec<usize>> = v.iter().map(|x| x.parse().ok()).collect();
-    match nums.as_deref() {
-        Some(&[x, y, width, height]) if width > 0 && height > 0 => Ok(Roi {
-            x,
-            y,
-            width,
-            height,
-        }),
-        _ => Err(format!(
-            "{s:?} is not X,Y,W,H in whole pixels with W and H above zero (e.g. 100,50,640,480)"
-        )),
-    }
 }
 
 fn check_roi(roi: &Roi, info: &SourceInfo) -> anyhow::Result<()> {
