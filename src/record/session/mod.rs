@@ -2,8 +2,8 @@
 //! thread, feeds frames to the live loop, obeys keys, typed commands and stop signals, keeps the
 //! display up to date, marks gaps when the source stops, and closes the run with a summary.
 //!
-//! Steps: [`start`] opens the run folder and notes the session, [`running`] does each turn of the
-//! loop and the close, [`summary`] says how it went; [`config`] is what a session is told.
+//! Steps: `start` opens the run folder and notes the session, `running` does each turn of the loop
+//! and the close, `summary` says how it went; `config` is what a session is told.
 
 mod config;
 mod running;
