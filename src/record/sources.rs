@@ -89,19 +89,19 @@ pub fn camera_plan(
         fps: fps.map(|f| f.round().max(1.0) as u32),
         channel,
     };
-    let (cam_name, w, h, cam_fps) = camera::describe_camera(&req)?;
+    let facts = camera::describe_camera(&req)?;
     let clock = Instant::now();
     let opener: Opener = Box::new(move || camera::open_camera(&req, clock));
     Ok(SourcePlan {
         opener,
         kind: "camera",
-        name: cam_name,
-        frame_interval_s: cam_fps.map(|f| 1.0 / f),
+        name: facts.name,
+        frame_interval_s: facts.fps.map(|f| 1.0 / f),
         on_fault: OnFault::Retry {
             every: Duration::from_secs(1),
         },
         run_per_wall: 1.0,
         clock_times: true,
-        size: (w, h),
+        size: (facts.width, facts.height),
     })
 }

@@ -68,6 +68,17 @@ pub struct CameraEntry {
     pub description: String,
 }
 
+/// What an opened camera said about itself.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CameraFacts {
+    pub name: String,
+    /// Image size it delivers, px.
+    pub width: u32,
+    pub height: u32,
+    /// Frame rate it runs at, when it tells one.
+    pub fps: Option<f64>,
+}
+
 /// Whether this build can use cameras.
 pub const CAMERA_SUPPORT: bool = cfg!(feature = "camera");
 
@@ -89,7 +100,7 @@ mod backend {
         })
     }
 
-    pub fn describe(_req: &CameraRequest) -> Result<(String, u32, u32, Option<f64>), CameraError> {
+    pub fn describe(_req: &CameraRequest) -> Result<CameraFacts, CameraError> {
         Err(CameraError::NoSupport)
     }
 }
@@ -191,16 +202,16 @@ mod backend {
         })
     }
 
-    pub fn describe(req: &CameraRequest) -> Result<(String, u32, u32, Option<f64>), CameraError> {
+    pub fn describe(req: &CameraRequest) -> Result<CameraFacts, CameraError> {
         let (mut cam, name) = open(req)?;
         let f = cam.camera_format();
         let _ = cam.stop_stream();
-        Ok((
+        Ok(CameraFacts {
             name,
-            f.width(),
-            f.height(),
-            Some(f.frame_rate() as f64).filter(|r| *r > 0.0),
-        ))
+            width: f.width(),
+            height: f.height(),
+            fps: Some(f.frame_rate() as f64).filter(|r| *r > 0.0),
+        })
     }
 
     struct CameraSource {
@@ -320,9 +331,7 @@ pub fn open_camera(
 }
 
 /// Open the camera once to learn its name, image size and frame rate, then close it.
-pub fn describe_camera(
-    req: &CameraRequest,
-) -> Result<(String, u32, u32, Option<f64>), CameraError> {
+pub fn describe_camera(req: &CameraRequest) -> Result<CameraFacts, CameraError> {
     backend::describe(req)
 }
 
