@@ -1,21 +1,15 @@
 //! `spotlever record`: record a live run from a camera, or replay a recording through the same loop.
 
-use anyhow::{bail, Context};
+use anyhow::bail;
 use clap::Args;
-use spotlever::calib::Calibration;
 use spotlever::frame::Channel;
-use spotlever::record::camera::{self, CameraChoice, CameraRequest};
-use spotlever::record::feed::{OnFault, Opener};
-use spotlever::record::input::{install_stop_signals, Controls};
+use spotlever::record::input::install_stop_signals;
+use spotlever::record::request::{prepare, RecordRequest};
 use spotlever::record::run_dir::Existing;
-use spotlever::record::session::{self, Display, SessionConfig};
-use spotlever::record::RecordError;
-use spotlever::source::replay::{Pace, ReplaySource};
-use spotlever::source::{self, OpenOptions};
-use spotlever::spot::SpotConfig;
+use spotlever::record::session;
+use spotlever::source::camera::{self, CameraChoice, CameraError};
 use std::io::IsTerminal;
 use std::path::PathBuf;
-use std::time::{Duration, Instant};
 
 /// On a terminal: `m` marks a mass move, `q` stops. Otherwise type `m [LABEL]` or `q` and Enter on
 /// standard input. Ctrl-C (SIGINT) also stops cleanly.
@@ -80,38 +74,10 @@ pub struct RecordArgs {
     pub out: Option<PathBuf>,
 }
 
-/// Where frames come from and how the session treats them.
-struct Plan {
-    opener: Opener,
-    kind: &'static str,
-    name: String,
-    frame_interval_s: Option<f64>,
-    on_fault: OnFault,
-    run_per_wall: f64,
-    clock_times: bool,
-    size: (u32, u32),
-}
-
-fn parse_resolution(s: &str) -> anyhow::Result<(u32, u32)> {
-    let bad = || format!("--resolution {s:?}: write it as WIDTHxHEIGHT, e.g. 1280x720");
-    let (w, h) = s.split_once(['x', 'X']).with_context(bad)?;
-    let w: u32 = w.trim().parse().ok().filter(|v| *v > 0).with_context(bad)?;
-    let h: u32 = h.trim().parse().ok().filter(|v| *v > 0).with_context(bad)?;
-    Ok((w, h))
-}
-
-fn positive(name: &str, v: f64) -> anyhow::Result<f64> {
-    if v.is_finite() && v > 0.0 {
-        Ok(v)
-    } else {
-        bail!("{name} {v} is not a positive number")
-    }
-}
-
 fn list_cameras() -> anyhow::Result<()> {
     let cams = camera::list_cameras()?;
     if cams.is_empty() {
-        return Err(RecordError::NoCamera {
+        return Err(CameraError::NoneFound {
             detail: String::new(),
         }
         .into());
@@ -126,7 +92,7 @@ pub fn run(args: RecordArgs) -> anyhow::Result<()> {
     if args.list_cameras {
         return list_cameras();
     }
-    let Some(out) = args.out.clone() else {
+    let Some(out) = args.out else {
         bail!("give the run folder with --out RUN_DIR");
     };
     let existing = if args.append {
@@ -136,159 +102,35 @@ pub fn run(args: RecordArgs) -> anyhow::Result<()> {
     } else {
         Existing::Refuse
     };
-    let resolution = args
-        .resolution
-        .as_deref()
-        .map(parse_resolution)
-        .transpose()?;
-    let fps = args.fps.map(|f| positive("--fps", f)).transpose()?;
-    if let Some(d) = args.duration {
-        positive("--duration", d)?;
-    }
-    let status_every = positive("--status-every", args.status_every)?;
-    let stall_after = positive("--stall-after", args.stall_after)?;
-    let calibration = match &args.calib {
-        Some(p) => {
-            let c = Calibration::load(p)?;
-            Some((p.display().to_string(), c))
-        }
-        None => None,
-    };
-
-    let plan = match &args.source {
-        Some(path) => {
-            if resolution.is_some() {
-                bail!("--resolution applies to cameras only; a replay keeps its recorded size");
-            }
-            let pace: Pace = args.speed.parse()?;
-            let opts = OpenOptions {
-                channel: args.channel,
-                fps,
-                ..OpenOptions::default()
-            };
-            // Open once here so a bad path is reported before the run folder is touched.
-            let probe = source::open(path, &opts)?;
-            let size = (probe.info().width as u32, probe.info().height as u32);
-            drop(probe);
-            let p = path.clone();
-            let opener: Opener = Box::new(move || {
-                let s = source::open(&p, &opts)?;
-                Ok(Box::new(ReplaySource::new(s, pace)) as Box<dyn source::FrameSource>)
-            });
-            let per_wall = match pace {
-                Pace::Factor(f) => f,
-                Pace::Max => 0.0,
-            };
-            Plan {
-                opener,
-                kind: "replay",
-                name: path.display().to_string(),
-                frame_interval_s: None,
-                on_fault: OnFault::Stop,
-                run_per_wall: per_wall,
-                clock_times: false,
-                size,
-            }
-        }
-        None => {
-            if !camera::CAMERA_SUPPORT {
-                return Err(RecordError::NoCameraSupport.into());
-            }
-            let req = CameraRequest {
-                choice: args.camera.clone().unwrap_or(CameraChoice::Index(0)),
-                resolution,
-                fps: fps.map(|f| f.round().max(1.0) as u32),
-                channel: args.channel,
-            };
-            let (cam_name, w, h, cam_fps) = camera::describe_camera(&req)?;
-            let clock = Instant::now();
-            let opener: Opener = Box::new(move || camera::open_camera(&req, clock));
-            Plan {
-                opener,
-                kind: "camera",
-                name: cam_name,
-                frame_interval_s: cam_fps.map(|f| 1.0 / f),
-                on_fault: OnFault::Retry {
-                    every: Duration::from_secs(1),
-                },
-                run_per_wall: 1.0,
-                clock_times: true,
-                size: (w, h),
-            }
-        }
-    };
-    let Plan {
-        opener,
-        kind,
-        name,
-        frame_interval_s,
-        on_fault,
-        run_per_wall,
-        clock_times,
-        size,
-    } = plan;
-    if let Some((p, c)) = &calibration {
-        c.check_image_size(size.0, size.1)
-            .with_context(|| format!("--calib {p}"))?;
-    }
-
     let interactive = std::io::stdout().is_terminal() && std::io::stdin().is_terminal();
-    let (display, controls) = if interactive {
-        (Display::Terminal, Controls::Keys)
-    } else {
-        (
-            Display::Lines {
-                every: Duration::from_secs_f64(status_every),
-            },
-            Controls::stdin_lines(),
-        )
-    };
+    let prepared = prepare(RecordRequest {
+        out,
+        existing,
+        replay: args.source,
+        camera: args.camera,
+        resolution: args.resolution,
+        fps: args.fps,
+        speed: args.speed,
+        channel: args.channel,
+        calib: args.calib,
+        keep_every: args.keep_every,
+        duration_s: args.duration,
+        status_every_s: args.status_every,
+        stall_after_s: args.stall_after,
+        interactive,
+    })?;
     if !install_stop_signals() {
         eprintln!("warning: cannot catch Ctrl-C; stop with 'q' to close the run cleanly");
     }
     if !interactive {
+        let cfg = &prepared.config;
         println!(
-            "recording {name} into {}; type 'm [LABEL]' + Enter to mark a mass move, 'q' + Enter to stop",
-            out.display()
+            "recording {} into {}; type 'm [LABEL]' + Enter to mark a mass move, 'q' + Enter to stop",
+            cfg.source_name,
+            cfg.out.display()
         );
     }
-    let summary = session::record(
-        SessionConfig {
-            out,
-            existing,
-            source_kind: kind.to_string(),
-            source_name: name,
-            fps_requested: if kind == "camera" { fps } else { None },
-            frame_interval_s,
-            channel: args.channel,
-            calibration,
-            spot: SpotConfig::default(),
-            keep_every: args.keep_every,
-            display,
-            controls,
-            duration_s: args.duration,
-            on_fault,
-            stall_after: Duration::from_secs_f64(stall_after),
-            run_per_wall,
-            clock_times,
-        },
-        opener,
-    )?;
+    let summary = session::record(prepared.config, prepared.opener)?;
     println!("{summary}");
     Ok(())
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn resolution_text() {
-        assert_eq!(parse_resolution("1280x720").unwrap(), (1280, 720));
-        assert_eq!(parse_resolution("640X480").unwrap(), (640, 480));
-        for bad in ["1280", "0x720", "ax720", "1280x"] {
-            let e = parse_resolution(bad).unwrap_err().to_string();
-            assert!(e.contains("WIDTHxHEIGHT"), "{e}");
-        }
-    }
 }

@@ -9,7 +9,7 @@
 
 use crate::source::{Delivery, FrameSource, SourceError, SourceInfo};
 use std::sync::atomic::{AtomicBool, Ordering};
-use std::sync::mpsc::{sync_channel, Receiver, RecvTimeoutError};
+use std::sync::mpsc::{sync_channel, Receiver, RecvTimeoutError, SyncSender};
 use std::sync::Arc;
 use std::thread::JoinHandle;
 use std::time::{Duration, Instant};
@@ -112,46 +112,91 @@ fn sleep_unless_stopped(d: Duration, stop: &AtomicBool) {
     }
 }
 
-fn read_loop(
-    mut opener: Opener,
+/// The reading thread's state across reopenings.
+struct Reader<'a> {
+    opener: Opener,
     on_fault: OnFault,
-    tx: &std::sync::mpsc::SyncSender<Feed>,
-    stop: &AtomicBool,
-) {
-    let mut base = 0u64;
-    let mut opened_once = false;
-    let mut fault_reported = false;
-    while !stop.load(Ordering::SeqCst) {
-        let mut source = match opener() {
-            Ok(s) => s,
-            Err(e) => match on_fault {
-                // A source that never opened is a setup error, not a fault.
-                OnFault::Retry { every } if opened_once => {
-                    if !fault_reported {
-                        fault_reported = tx.send(Feed::Fault(e.to_string())).is_ok();
+    tx: &'a SyncSender<Feed>,
+    stop: &'a AtomicBool,
+    /// Added to the source's frame numbers, so they go on across reopenings.
+    base: u64,
+    opened_once: bool,
+    fault_reported: bool,
+}
+
+/// How one opening of the source ended.
+enum Pass {
+    /// It stopped delivering (retries only): why, and the frame number to go on from.
+    Fault { reason: String, next_base: u64 },
+    /// The thread is done: the run ended, failed, was stopped, or nobody listens any more.
+    Done,
+}
+
+fn read_loop(opener: Opener, on_fault: OnFault, tx: &SyncSender<Feed>, stop: &AtomicBool) {
+    let mut reader = Reader {
+        opener,
+        on_fault,
+        tx,
+        stop,
+        base: 0,
+        opened_once: false,
+        fault_reported: false,
+    };
+    reader.run();
+}
+
+impl Reader<'_> {
+    fn run(&mut self) {
+        while !self.stop.load(Ordering::SeqCst) {
+            let mut source = match (self.opener)() {
+                Ok(s) => s,
+                Err(e) => match self.on_fault {
+                    // A source that never opened is a setup error, not a fault.
+                    OnFault::Retry { every } if self.opened_once => {
+                        if !self.fault_reported {
+                            self.fault_reported = self.tx.send(Feed::Fault(e.to_string())).is_ok();
+                        }
+                        sleep_unless_stopped(every, self.stop);
+                        continue;
                     }
-                    sleep_unless_stopped(every, stop);
-                    continue;
-                }
-                _ => {
-                    let _ = tx.send(Feed::Fatal(e));
-                    return;
-                }
-            },
-        };
-        let first = if opened_once {
-            Feed::Reopened
-        } else {
-            Feed::Opened(source.info().clone())
-        };
-        opened_once = true;
-        if tx.send(first).is_err() {
-            return;
-        }
-        let mut next_base = base;
-        let reason = loop {
-            if stop.load(Ordering::SeqCst) {
+                    _ => {
+                        let _ = self.tx.send(Feed::Fatal(e));
+                        return;
+                    }
+                },
+            };
+            let first = if self.opened_once {
+                Feed::Reopened
+            } else {
+                Feed::Opened(source.info().clone())
+            };
+            self.opened_once = true;
+            if self.tx.send(first).is_err() {
                 return;
+            }
+            let Pass::Fault { reason, next_base } = self.read(source.as_mut()) else {
+                return;
+            };
+            drop(source);
+            self.base = next_base;
+            if let OnFault::Retry { every } = self.on_fault {
+                if !self.fault_reported {
+                    self.fault_reported = true;
+                    if self.tx.send(Feed::Fault(reason)).is_err() {
+                        return;
+                    }
+                }
+                sleep_unless_stopped(every, self.stop);
+            }
+        }
+    }
+
+    /// Read one opening of the source until it stops, renumbering its frames after `base`.
+    fn read(&mut self, source: &mut dyn FrameSource) -> Pass {
+        let mut next_base = self.base;
+        loop {
+            if self.stop.load(Ordering::SeqCst) {
+                return Pass::Done;
             }
             match source.next_delivery() {
                 Some(Ok(mut d)) => {
@@ -159,39 +204,38 @@ fn read_loop(
                         Delivery::Frame(f) => &mut f.index,
                         Delivery::Unreadable { index, .. } => index,
                     };
-                    *idx += base;
+                    *idx += self.base;
                     next_base = next_base.max(*idx + 1);
-                    fault_reported = false;
-                    if tx.send(Feed::Delivery(d, Instant::now())).is_err() {
-                        return;
+                    self.fault_reported = false;
+                    if self.tx.send(Feed::Delivery(d, Instant::now())).is_err() {
+                        return Pass::Done;
                     }
                 }
-                Some(Err(e)) => match on_fault {
+                Some(Err(e)) => match self.on_fault {
                     OnFault::Stop => {
-                        let _ = tx.send(Feed::Fatal(e));
-                        return;
+                        let _ = self.tx.send(Feed::Fatal(e));
+                        return Pass::Done;
                     }
-                    OnFault::Retry { .. } => break e.to_string(),
+                    OnFault::Retry { .. } => {
+                        return Pass::Fault {
+                            reason: e.to_string(),
+                            next_base,
+                        }
+                    }
                 },
-                None => match on_fault {
+                None => match self.on_fault {
                     OnFault::Stop => {
-                        let _ = tx.send(Feed::End);
-                        return;
+                        let _ = self.tx.send(Feed::End);
+                        return Pass::Done;
                     }
-                    OnFault::Retry { .. } => break "the source stopped delivering frames".into(),
+                    OnFault::Retry { .. } => {
+                        return Pass::Fault {
+                            reason: "the source stopped delivering frames".into(),
+                            next_base,
+                        }
+                    }
                 },
             }
-        };
-        drop(source);
-        base = next_base;
-        if let OnFault::Retry { every } = on_fault {
-            if !fault_reported {
-                fault_reported = true;
-                if tx.send(Feed::Fault(reason)).is_err() {
-                    return;
-                }
-            }
-            sleep_unless_stopped(every, stop);
         }
     }
 }

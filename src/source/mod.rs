@@ -5,6 +5,7 @@
 //! the middle of a sequence) is `Delivery::Unreadable` and the run goes on; a [`SourceError`] means the
 //! source cannot continue at all.
 
+pub mod camera;
 pub mod replay;
 
 use crate::error::IoError;

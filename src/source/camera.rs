@@ -5,10 +5,21 @@
 //! Frames are stamped with a monotonic clock shared by every reopening of the camera, so the run's
 //! times keep counting through a gap.
 
-use super::RecordError;
 use crate::frame::Channel;
 use crate::source::{FrameSource, SourceError};
 use std::time::Instant;
+use thiserror::Error;
+
+/// Why a camera cannot be listed, described or opened. Each says what to do.
+#[derive(Debug, Error)]
+pub enum CameraError {
+    #[error("this build of spotlever has no camera support; rebuild with `cargo build --release --features camera` (on Linux first install libclang-dev), or replay a recording with --source")]
+    NoSupport,
+    #[error("no camera found{detail}; check that one is plugged in and that you may use it (on Linux: member of the 'video' group, /dev/video* present)")]
+    NoneFound { detail: String },
+    #[error("camera {camera}: {message}")]
+    Device { camera: String, message: String },
+}
 
 /// Which camera to use.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -57,6 +68,17 @@ pub struct CameraEntry {
     pub description: String,
 }
 
+/// What an opened camera said about itself.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CameraFacts {
+    pub name: String,
+    /// Image size it delivers, px.
+    pub width: u32,
+    pub height: u32,
+    /// Frame rate it runs at, when it tells one.
+    pub fps: Option<f64>,
+}
+
 /// Whether this build can use cameras.
 pub const CAMERA_SUPPORT: bool = cfg!(feature = "camera");
 
@@ -64,8 +86,8 @@ pub const CAMERA_SUPPORT: bool = cfg!(feature = "camera");
 mod backend {
     use super::*;
 
-    pub fn list_cameras() -> Result<Vec<CameraEntry>, RecordError> {
-        Err(RecordError::NoCameraSupport)
+    pub fn list_cameras() -> Result<Vec<CameraEntry>, CameraError> {
+        Err(CameraError::NoSupport)
     }
 
     pub fn open_camera(
@@ -74,12 +96,12 @@ mod backend {
     ) -> Result<Box<dyn FrameSource>, SourceError> {
         Err(SourceError::Invalid {
             path: "camera".into(),
-            message: RecordError::NoCameraSupport.to_string(),
+            message: CameraError::NoSupport.to_string(),
         })
     }
 
-    pub fn describe(_req: &CameraRequest) -> Result<(String, u32, u32, Option<f64>), RecordError> {
-        Err(RecordError::NoCameraSupport)
+    pub fn describe(_req: &CameraRequest) -> Result<CameraFacts, CameraError> {
+        Err(CameraError::NoSupport)
     }
 }
 
@@ -100,8 +122,8 @@ mod backend {
         nokhwa::native_api_backend().unwrap_or(ApiBackend::Auto)
     }
 
-    pub fn list_cameras() -> Result<Vec<CameraEntry>, RecordError> {
-        let found = nokhwa::query(backend()).map_err(|e| RecordError::NoCamera {
+    pub fn list_cameras() -> Result<Vec<CameraEntry>, CameraError> {
+        let found = nokhwa::query(backend()).map_err(|e| CameraError::NoneFound {
             detail: format!(" (the camera driver answered: {e})"),
         })?;
         Ok(found
@@ -114,7 +136,7 @@ mod backend {
             .collect())
     }
 
-    fn index_for(choice: &CameraChoice) -> Result<CameraIndex, RecordError> {
+    fn index_for(choice: &CameraChoice) -> Result<CameraIndex, CameraError> {
         match choice {
             CameraChoice::Index(i) => Ok(CameraIndex::Index(*i)),
             CameraChoice::Name(n) => {
@@ -124,7 +146,7 @@ mod backend {
                 let hit = all
                     .into_iter()
                     .find(|c| c.name.to_lowercase().contains(&want))
-                    .ok_or_else(|| RecordError::Camera {
+                    .ok_or_else(|| CameraError::Device {
                         camera: n.clone(),
                         message: if names.is_empty() {
                             "no camera is connected".into()
@@ -143,7 +165,7 @@ mod backend {
         }
     }
 
-    fn open(req: &CameraRequest) -> Result<(Camera, String), RecordError> {
+    fn open(req: &CameraRequest) -> Result<(Camera, String), CameraError> {
         let index = index_for(&req.choice)?;
         let (w, h) = req.resolution.unwrap_or((1280, 720));
         let fps = req.fps.unwrap_or(30);
@@ -174,22 +196,22 @@ mod backend {
                 Err(e) => last_err = e.to_string(),
             }
         }
-        Err(RecordError::Camera {
+        Err(CameraError::Device {
             camera: req.choice.to_string(),
             message: format!("cannot open it: {last_err}"),
         })
     }
 
-    pub fn describe(req: &CameraRequest) -> Result<(String, u32, u32, Option<f64>), RecordError> {
+    pub fn describe(req: &CameraRequest) -> Result<CameraFacts, CameraError> {
         let (mut cam, name) = open(req)?;
         let f = cam.camera_format();
         let _ = cam.stop_stream();
-        Ok((
+        Ok(CameraFacts {
             name,
-            f.width(),
-            f.height(),
-            Some(f.frame_rate() as f64).filter(|r| *r > 0.0),
-        ))
+            width: f.width(),
+            height: f.height(),
+            fps: Some(f.frame_rate() as f64).filter(|r| *r > 0.0),
+        })
     }
 
     struct CameraSource {
@@ -296,7 +318,7 @@ mod backend {
 }
 
 /// The cameras the driver can see. Without the `camera` feature: an error saying how to rebuild.
-pub fn list_cameras() -> Result<Vec<CameraEntry>, RecordError> {
+pub fn list_cameras() -> Result<Vec<CameraEntry>, CameraError> {
     backend::list_cameras()
 }
 
@@ -309,9 +331,7 @@ pub fn open_camera(
 }
 
 /// Open the camera once to learn its name, image size and frame rate, then close it.
-pub fn describe_camera(
-    req: &CameraRequest,
-) -> Result<(String, u32, u32, Option<f64>), RecordError> {
+pub fn describe_camera(req: &CameraRequest) -> Result<CameraFacts, CameraError> {
     backend::describe(req)
 }
 
