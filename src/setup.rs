@@ -158,15 +158,117 @@ impl Reader<'_> {
         }
         Ok(m)
     }
+    fn impossible(&self, message: String) -> SetupError {
+        SetupError::Impossible {
+            path: self.path.to_path_buf(),
+            message,
+        }
+    }
     fn positive(&self, what: &str, m: Measured) -> Result<Measured, SetupError> {
         if m.value > 0.0 {
             Ok(m)
         } else {
-            Err(SetupError::Impossible {
-                path: self.path.to_path_buf(),
-                message: format!("{what} must be greater than zero (got {})", m.value),
-            })
+            Err(self.impossible(format!(
+                "{what} must be greater than zero (got {})",
+                m.value
+            )))
         }
+    }
+
+    /// The `[beam]` quantities (rod length defaults to twice the arm, extra inertia to none).
+    fn beam(&mut self, raw: &RawBeam) -> Result<Beam, SetupError> {
+        use Dimension::*;
+        let small_mass = self.q("beam", "small_mass", &raw.small_mass, Mass)?;
+        let small_radius = self.q("beam", "small_radius", &raw.small_radius, Length)?;
+        let arm = self.q("beam", "arm", &raw.arm, Length)?;
+        let rod_mass = self.q("beam", "rod_mass", &raw.rod_mass, Mass)?;
+        let rod_length = match &raw.rod_length {
+            Some(t) => self.q("beam", "rod_length", t, Length)?,
+            None => Measured::new(2.0 * arm.value, 2.0 * arm.u),
+        };
+        let extra_inertia = match &raw.extra_inertia {
+            Some(t) => self.q("beam", "extra_inertia", t, Inertia)?,
+            None => Measured::exact(0.0),
+        };
+        Ok(Beam {
+            small_mass,
+            small_radius,
+            arm,
+            rod_mass,
+            rod_length,
+            extra_inertia,
+        })
+    }
+
+    /// The `[sources]` quantities.
+    fn sources(&mut self, raw: &RawSources) -> Result<Sources, SetupError> {
+        use Dimension::*;
+        let large_mass = self.q("sources", "large_mass", &raw.large_mass, Mass)?;
+        let large_radius = match &raw.large_radius {
+            Some(t) => Some(self.q("sources", "large_radius", t, Length)?),
+            None => None,
+        };
+        let separation = self.q("sources", "separation", &raw.separation, Length)?;
+        Ok(Sources {
+            large_mass,
+            large_radius,
+            separation,
+        })
+    }
+
+    /// The `[lever]` quantities.
+    fn lever(&mut self, raw: &RawLever) -> Result<LeverSetup, SetupError> {
+        let screen_distance = self.q(
+            "lever",
+            "screen_distance",
+            &raw.screen_distance,
+            Dimension::Length,
+        )?;
+        let zero = self.q("lever", "zero", &raw.zero, Dimension::Length)?;
+        Ok(LeverSetup {
+            screen_distance,
+            zero,
+            scale: raw.scale,
+        })
+    }
+
+    /// Refuse values no apparatus can have: non-positive sizes and masses, overlapping spheres.
+    fn check(&self, b: &Beam, s: &Sources, l: &LeverSetup) -> Result<(), SetupError> {
+        self.positive("beam.small_mass", b.small_mass)?;
+        self.positive("beam.small_radius", b.small_radius)?;
+        self.positive("beam.arm", b.arm)?;
+        if b.rod_mass.value < 0.0 {
+            self.positive("beam.rod_mass", b.rod_mass)?;
+        }
+        self.positive("beam.rod_length", b.rod_length)?;
+        if b.extra_inertia.value < 0.0 {
+            return Err(self.impossible("beam.extra_inertia cannot be negative".into()));
+        }
+        self.positive("sources.large_mass", s.large_mass)?;
+        self.positive("sources.separation", s.separation)?;
+        self.positive("lever.screen_distance", l.screen_distance)?;
+        self.check_overlap(b, s)
+    }
+
+    /// The spheres must not overlap: large with small, and the two small ones at the axis.
+    fn check_overlap(&self, b: &Beam, s: &Sources) -> Result<(), SetupError> {
+        let (separation, small_radius) = (s.separation, b.small_radius);
+        if let Some(lr) = s.large_radius {
+            self.positive("sources.large_radius", lr)?;
+            if separation.value <= lr.value + small_radius.value {
+                return Err(self.impossible(format!(
+                    "sources.separation ({:.1} mm) is not larger than the sum of the sphere radii ({:.1} mm): the spheres would overlap",
+                    separation.value * 1e3,
+                    (lr.value + small_radius.value) * 1e3
+                )));
+            }
+        } else if separation.value <= small_radius.value {
+            return Err(self.impossible("sources.separation is smaller than the small sphere's radius: the spheres would overlap".into()));
+        }
+        if 2.0 * small_radius.value >= 2.0 * b.arm.value {
+            return Err(self.impossible("beam.small_radius is not smaller than beam.arm: the small spheres would overlap at the axis".into()));
+        }
+        Ok(())
     }
 }
 
@@ -192,92 +294,14 @@ impl Setup {
             path,
             without_u: Vec::new(),
         };
-        use Dimension::*;
-        let small_mass = r.q("beam", "small_mass", &raw.beam.small_mass, Mass)?;
-        let small_radius = r.q("beam", "small_radius", &raw.beam.small_radius, Length)?;
-        let arm = r.q("beam", "arm", &raw.beam.arm, Length)?;
-        let rod_mass = r.q("beam", "rod_mass", &raw.beam.rod_mass, Mass)?;
-        let rod_length = match &raw.beam.rod_length {
-            Some(t) => r.q("beam", "rod_length", t, Length)?,
-            None => Measured::new(2.0 * arm.value, 2.0 * arm.u),
-        };
-        let extra_inertia = match &raw.beam.extra_inertia {
-            Some(t) => r.q("beam", "extra_inertia", t, Inertia)?,
-            None => Measured::exact(0.0),
-        };
-        let large_mass = r.q("sources", "large_mass", &raw.sources.large_mass, Mass)?;
-        let large_radius = match &raw.sources.large_radius {
-            Some(t) => Some(r.q("sources", "large_radius", t, Length)?),
-            None => None,
-        };
-        let separation = r.q("sources", "separation", &raw.sources.separation, Length)?;
-        let screen_distance = r.q(
-            "lever",
-            "screen_distance",
-            &raw.lever.screen_distance,
-            Length,
-        )?;
-        let zero = r.q("lever", "zero", &raw.lever.zero, Length)?;
-
-        r.positive("beam.small_mass", small_mass)?;
-        r.positive("beam.small_radius", small_radius)?;
-        r.positive("beam.arm", arm)?;
-        if rod_mass.value < 0.0 {
-            r.positive("beam.rod_mass", rod_mass)?;
-        }
-        r.positive("beam.rod_length", rod_length)?;
-        if extra_inertia.value < 0.0 {
-            return Err(SetupError::Impossible {
-                path: path.to_path_buf(),
-                message: "beam.extra_inertia cannot be negative".into(),
-            });
-        }
-        r.positive("sources.large_mass", large_mass)?;
-        r.positive("sources.separation", separation)?;
-        r.positive("lever.screen_distance", screen_distance)?;
-        if let Some(lr) = large_radius {
-            r.positive("sources.large_radius", lr)?;
-            if separation.value <= lr.value + small_radius.value {
-                return Err(SetupError::Impossible {
-                    path: path.to_path_buf(),
-                    message: format!(
-                        "sources.separation ({:.1} mm) is not larger than the sum of the sphere radii ({:.1} mm): the spheres would overlap",
-                        separation.value * 1e3,
-                        (lr.value + small_radius.value) * 1e3
-                    ),
-                });
-            }
-        } else if separation.value <= small_radius.value {
-            return Err(SetupError::Impossible {
-                path: path.to_path_buf(),
-                message: "sources.separation is smaller than the small sphere's radius: the spheres would overlap".into(),
-            });
-        }
-        if 2.0 * small_radius.value >= 2.0 * arm.value {
-            return Err(SetupError::Impossible {
-                path: path.to_path_buf(),
-                message: "beam.small_radius is not smaller than beam.arm: the small spheres would overlap at the axis".into(),
-            });
-        }
+        let beam = r.beam(&raw.beam)?;
+        let sources = r.sources(&raw.sources)?;
+        let lever = r.lever(&raw.lever)?;
+        r.check(&beam, &sources, &lever)?;
         Ok(Setup {
-            beam: Beam {
-                small_mass,
-                small_radius,
-                arm,
-                rod_mass,
-                rod_length,
-                extra_inertia,
-            },
-            sources: Sources {
-                large_mass,
-                large_radius,
-                separation,
-            },
-            lever: LeverSetup {
-                screen_distance,
-                zero,
-                scale: raw.lever.scale,
-            },
+            beam,
+            sources,
+            lever,
             fibre: raw.fibre,
             without_uncertainty: r.without_u,
             path: path.to_path_buf(),

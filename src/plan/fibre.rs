@@ -6,7 +6,7 @@
 //! `kappa = G_s w t^3 / (3 l)`.
 
 use crate::plan::materials::{self, Material};
-use crate::plan::PlanError;
+use crate::plan::{FibreProblem, PlanError};
 use crate::units::{parse_quantity, Dimension, Measured};
 use std::collections::BTreeMap;
 use std::f64::consts::PI;
@@ -59,6 +59,8 @@ pub const FIBRE_KEYS: &[&str] = &[
     "load_mass",
 ];
 
+/// Reads one fibre table's keys, naming the file and table in every refusal and noting the quantities
+/// given without an uncertainty.
 struct TableReader<'a> {
     path: &'a Path,
     table: &'a str,
@@ -66,38 +68,138 @@ struct TableReader<'a> {
     without_u: Vec<String>,
 }
 
+/// The material's values after the table's overrides.
+struct MaterialValues {
+    shear_modulus: Measured,
+    tensile_strength: f64,
+    density: f64,
+    overridden: Vec<String>,
+}
+
 impl TableReader<'_> {
-    fn err(&self, message: String) -> PlanError {
+    fn err(&self, problem: FibreProblem) -> PlanError {
         PlanError::Fibre {
             path: self.path.to_path_buf(),
             table: self.table.to_string(),
-            message,
+            problem,
         }
     }
     fn text(&self, key: &str) -> Result<Option<&str>, PlanError> {
         match self.raw.get(key) {
             None => Ok(None),
             Some(toml::Value::String(s)) => Ok(Some(s.as_str())),
-            Some(other) => Err(self.err(format!(
-                "{key} must be a quoted string such as \"30 ± 1 um\" (got {other})"
-            ))),
+            Some(other) => Err(self.err(FibreProblem::NotQuantityText {
+                key: key.to_string(),
+                got: other.clone(),
+            })),
         }
     }
     fn quantity(&mut self, key: &str, dim: Dimension) -> Result<Option<Measured>, PlanError> {
         let Some(t) = self.text(key)?.map(str::to_string) else {
             return Ok(None);
         };
-        let t = t.as_str();
-        let (m, has_u) = parse_quantity(t, dim).map_err(|e| self.err(format!("{key}: {e}")))?;
+        let (m, has_u) = parse_quantity(&t, dim).map_err(|cause| {
+            self.err(FibreProblem::Quantity {
+                key: key.to_string(),
+                cause,
+            })
+        })?;
         if !has_u {
             self.without_u.push(format!("{}.{key}", self.table));
         }
         if m.value <= 0.0 {
-            return Err(self.err(format!(
-                "{key} must be greater than zero (got {t:?}); dimensions and material values are positive"
-            )));
+            return Err(self.err(FibreProblem::NotPositive {
+                key: key.to_string(),
+                text: t,
+            }));
         }
         Ok(Some(m))
+    }
+
+    /// Refuse keys outside [`FIBRE_KEYS`] and `allowed_extra`.
+    fn refuse_unknown_keys(&self, allowed_extra: &[&str]) -> Result<(), PlanError> {
+        let known = |k: &str| FIBRE_KEYS.contains(&k) || allowed_extra.contains(&k);
+        match self.raw.keys().find(|k| !known(k)) {
+            None => Ok(()),
+            Some(k) => Err(self.err(FibreProblem::UnknownKey {
+                key: k.clone(),
+                accepted: FIBRE_KEYS
+                    .iter()
+                    .chain(allowed_extra)
+                    .map(|k| k.to_string())
+                    .collect(),
+            })),
+        }
+    }
+
+    /// The named material from the built-in table.
+    fn material(&self) -> Result<&'static Material, PlanError> {
+        let name = self.text("material")?.ok_or_else(|| {
+            self.err(FibreProblem::NoMaterial {
+                known: materials::known_names(),
+            })
+        })?;
+        materials::lookup(name).map_err(|e| self.err(FibreProblem::Material(e)))
+    }
+
+    /// Round wire (`diameter`) or ribbon (`width` and `thickness`), exactly one of them.
+    fn section(&mut self) -> Result<Section, PlanError> {
+        use Dimension::Length;
+        let diameter = self.quantity("diameter", Length)?;
+        let width = self.quantity("width", Length)?;
+        let thickness = self.quantity("thickness", Length)?;
+        match (diameter, width, thickness) {
+            (Some(d), None, None) => Ok(Section::Round { diameter: d }),
+            (None, Some(w), Some(t)) if t.value > w.value => {
+                Err(self.err(FibreProblem::ThickerThanWide {
+                    thickness_m: t.value,
+                    width_m: w.value,
+                }))
+            }
+            (None, Some(w), Some(t)) => Ok(Section::Ribbon {
+                width: w,
+                thickness: t,
+            }),
+            (Some(_), _, _) => Err(self.err(FibreProblem::RoundAndRibbon)),
+            (None, Some(_), None) | (None, None, Some(_)) => {
+                Err(self.err(FibreProblem::HalfARibbon))
+            }
+            (None, None, None) => Err(self.err(FibreProblem::NoSection)),
+        }
+    }
+
+    /// The material's shear modulus, tensile strength and density, each overridden where the table
+    /// gives it.
+    fn material_values(&mut self, base: &Material) -> Result<MaterialValues, PlanError> {
+        use Dimension::*;
+        let mut overridden = Vec::new();
+        let shear_modulus = match self.quantity("shear_modulus", Pressure)? {
+            Some(g) => {
+                overridden.push("shear_modulus".to_string());
+                g
+            }
+            None => Measured::new(
+                base.shear_modulus,
+                base.shear_modulus * base.shear_modulus_rel_u,
+            ),
+        };
+        let mut value_of = |key: &str, dim, default: f64| -> Result<f64, PlanError> {
+            Ok(match self.quantity(key, dim)? {
+                Some(s) => {
+                    overridden.push(key.to_string());
+                    s.value
+                }
+                None => default,
+            })
+        };
+        let tensile_strength = value_of("tensile_strength", Pressure, base.tensile_strength)?;
+        let density = value_of("density", Density, base.density)?;
+        Ok(MaterialValues {
+            shear_modulus,
+            tensile_strength,
+            density,
+            overridden,
+        })
     }
 }
 
@@ -116,99 +218,23 @@ impl Fibre {
             raw,
             without_u: Vec::new(),
         };
-        if let Some(k) = raw
-            .keys()
-            .find(|k| !FIBRE_KEYS.contains(&k.as_str()) && !allowed_extra.contains(&k.as_str()))
-        {
-            let mut all: Vec<&str> = FIBRE_KEYS.to_vec();
-            all.extend_from_slice(allowed_extra);
-            return Err(r.err(format!(
-                "unknown key {k:?}; accepted keys: {}",
-                all.join(", ")
-            )));
-        }
-        let name = r
-            .text("material")?
-            .ok_or_else(|| {
-                r.err(format!(
-                    "material is missing; known materials: {}",
-                    materials::known_names()
-                ))
-            })?
-            .to_string();
-        let base: &Material = materials::lookup(&name).map_err(|e| r.err(e.to_string()))?;
-        use Dimension::*;
-        let diameter = r.quantity("diameter", Length)?;
-        let width = r.quantity("width", Length)?;
-        let thickness = r.quantity("thickness", Length)?;
-        let section = match (diameter, width, thickness) {
-            (Some(d), None, None) => Section::Round { diameter: d },
-            (None, Some(w), Some(t)) => {
-                if t.value > w.value {
-                    return Err(r.err(format!(
-                        "a ribbon's thickness ({:.3e} m) is larger than its width ({:.3e} m); swap them",
-                        t.value, w.value
-                    )));
-                }
-                Section::Ribbon {
-                    width: w,
-                    thickness: t,
-                }
-            }
-            (Some(_), _, _) => {
-                return Err(r.err(
-                    "give either diameter (round wire) or width and thickness (ribbon), not both"
-                        .into(),
-                ))
-            }
-            (None, Some(_), None) | (None, None, Some(_)) => {
-                return Err(r.err("a ribbon needs both width and thickness".into()))
-            }
-            (None, None, None) => {
-                return Err(r.err(
-                    "the cross-section is missing: give diameter (round wire) or width and thickness (ribbon)"
-                        .into(),
-                ))
-            }
-        };
+        r.refuse_unknown_keys(allowed_extra)?;
+        let base = r.material()?;
+        let section = r.section()?;
         let length = r
-            .quantity("length", Length)?
-            .ok_or_else(|| r.err("length (the free, twisting length) is missing".into()))?;
-        let mut overridden = Vec::new();
-        let shear_modulus = match r.quantity("shear_modulus", Pressure)? {
-            Some(g) => {
-                overridden.push("shear_modulus".to_string());
-                g
-            }
-            None => Measured::new(
-                base.shear_modulus,
-                base.shear_modulus * base.shear_modulus_rel_u,
-            ),
-        };
-        let tensile_strength = match r.quantity("tensile_strength", Pressure)? {
-            Some(s) => {
-                overridden.push("tensile_strength".to_string());
-                s.value
-            }
-            None => base.tensile_strength,
-        };
-        let density = match r.quantity("density", Density)? {
-            Some(s) => {
-                overridden.push("density".to_string());
-                s.value
-            }
-            None => base.density,
-        };
-        let load_mass = r.quantity("load_mass", Mass)?;
+            .quantity("length", Dimension::Length)?
+            .ok_or_else(|| r.err(FibreProblem::NoLength))?;
+        let values = r.material_values(base)?;
+        let load_mass = r.quantity("load_mass", Dimension::Mass)?;
         Ok(Fibre {
             material: base.name.to_string(),
             section,
             length,
-            shear_modulus,
-            tensile_strength,
-            density,
+            shear_modulus: values.shear_modulus,
+            tensile_strength: values.tensile_strength,
+            density: values.density,
             load_mass,
-            overridden,
+            overridden: values.overridden,
             without_uncertainty: r.without_u,
         })
     }

@@ -6,7 +6,7 @@
 //! The stated relative uncertainties say how far a given spool may plausibly differ; measure your own
 //! fibre with `spotlever fibre` and override the values in the setup file when you can.
 
-use crate::plan::PlanError;
+use thiserror::Error;
 
 /// One material's properties, SI units.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -92,13 +92,23 @@ pub fn known_names() -> String {
         .join(", ")
 }
 
+/// A material name the built-in table does not hold.
+#[derive(Debug, Clone, PartialEq, Error)]
+#[error("unknown fibre material {name:?}; known materials: {known} (or give shear_modulus and tensile_strength yourself with one of these as the base)")]
+pub struct UnknownMaterial {
+    /// The name as written.
+    pub name: String,
+    /// The known names, comma separated.
+    pub known: String,
+}
+
 /// Look a material up by name (case-insensitive; spaces and dashes count as underscores).
-pub fn lookup(name: &str) -> Result<&'static Material, PlanError> {
+pub fn lookup(name: &str) -> Result<&'static Material, UnknownMaterial> {
     let key = name.trim().to_lowercase().replace([' ', '-'], "_");
     MATERIALS
         .iter()
         .find(|m| m.name == key)
-        .ok_or_else(|| PlanError::UnknownMaterial {
+        .ok_or_else(|| UnknownMaterial {
             name: name.to_string(),
             known: known_names(),
         })

@@ -33,11 +33,7 @@ pub fn propagate(
         .iter()
         .map(|(n, m)| Input::new(n, m.value, m.u, ""))
         .collect();
-    let g = gum(&list, f).map_err(|e| {
-        PlanError::Input(format!(
-            "uncertainty propagation failed ({e}); check the design's values"
-        ))
-    })?;
+    let g = gum(&list, f).map_err(PlanError::Propagation)?;
     let contributions = g
         .budget
         .iter()

@@ -7,9 +7,10 @@
 //! swing is fitted for the period).
 
 use crate::physics;
+use crate::plan::error::MIN_TRACK_ROWS;
 use crate::plan::fibre::{section_factor, Fibre};
 use crate::plan::propagate::propagate;
-use crate::plan::PlanError;
+use crate::plan::{FibreProblem, PlanError};
 use crate::units::{parse_quantity, Dimension, Measured};
 use serde::Deserialize;
 use std::collections::BTreeMap;
@@ -61,89 +62,121 @@ struct RawTrials {
 
 /// Read a trial file.
 pub fn read_trials(path: &Path) -> Result<Vec<TrialInput>, PlanError> {
-    let text = std::fs::read_to_string(path).map_err(|e| {
-        PlanError::Input(format!(
-            "{}: cannot read the trial file: {e}",
-            path.display()
-        ))
+    let text = std::fs::read_to_string(path).map_err(|cause| PlanError::TrialFileRead {
+        path: path.to_path_buf(),
+        cause,
     })?;
     parse_trials(&text, path)
 }
 
 /// Parse trial-file text; `path` names the file in messages and resolves track paths.
 pub fn parse_trials(text: &str, path: &Path) -> Result<Vec<TrialInput>, PlanError> {
-    let raw: RawTrials = toml::from_str(text).map_err(|e| {
-        PlanError::Input(format!(
-            "{}: {} (a trial file is a list of [[trial]] tables)",
-            path.display(),
-            e.to_string().trim_end()
-        ))
+    let raw: RawTrials = toml::from_str(text).map_err(|e| PlanError::TrialFileSyntax {
+        path: path.to_path_buf(),
+        message: e.to_string().trim_end().to_string(),
     })?;
     if raw.trial.is_empty() {
-        return Err(PlanError::Input(format!(
-            "{}: no [[trial]] tables",
-            path.display()
-        )));
+        return Err(PlanError::NoTrials {
+            path: path.to_path_buf(),
+        });
     }
     let dir = path.parent().unwrap_or(Path::new("."));
-    let mut out = Vec::new();
-    for (i, t) in raw.trial.iter().enumerate() {
-        let table = format!("trial {}", i + 1);
-        let err = |message: String| PlanError::Fibre {
-            path: path.to_path_buf(),
-            table: table.clone(),
-            message,
-        };
-        let fibre = Fibre::from_table(t, path, &table, &["name", "inertia", "period", "track"])?;
-        let text_of = |key: &str| -> Result<Option<String>, PlanError> {
-            match t.get(key) {
-                None => Ok(None),
-                Some(toml::Value::String(s)) => Ok(Some(s.clone())),
-                Some(v) => Err(err(format!("{key} must be a quoted string (got {v})"))),
+    raw.trial
+        .iter()
+        .enumerate()
+        .map(|(i, t)| {
+            TrialKeys {
+                path,
+                table: format!("trial {}", i + 1),
+                raw: t,
             }
+            .read(dir)
+        })
+        .collect()
+}
+
+/// The keys of one `[[trial]]` table beyond the fibre's.
+struct TrialKeys<'a> {
+    path: &'a Path,
+    /// `trial N`, for messages and as the default name.
+    table: String,
+    raw: &'a BTreeMap<String, toml::Value>,
+}
+
+impl TrialKeys<'_> {
+    fn err(&self, problem: FibreProblem) -> PlanError {
+        PlanError::Fibre {
+            path: self.path.to_path_buf(),
+            table: self.table.clone(),
+            problem,
+        }
+    }
+    fn text(&self, key: &str) -> Result<Option<String>, PlanError> {
+        match self.raw.get(key) {
+            None => Ok(None),
+            Some(toml::Value::String(s)) => Ok(Some(s.clone())),
+            Some(v) => Err(self.err(FibreProblem::NotText {
+                key: key.to_string(),
+                got: v.clone(),
+            })),
+        }
+    }
+    fn positive(&self, key: &str, dim: Dimension) -> Result<Option<Measured>, PlanError> {
+        let Some(s) = self.text(key)? else {
+            return Ok(None);
         };
-        let name = text_of("name")?.unwrap_or_else(|| format!("trial {}", i + 1));
-        let positive = |key: &str, dim| -> Result<Option<Measured>, PlanError> {
-            let Some(s) = text_of(key)? else {
-                return Ok(None);
-            };
-            let (m, _) = parse_quantity(&s, dim).map_err(|e| err(format!("{key}: {e}")))?;
-            if m.value <= 0.0 {
-                return Err(err(format!("{key} must be greater than zero (got {s:?})")));
-            }
-            Ok(Some(m))
-        };
-        let inertia = positive("inertia", Dimension::Inertia)?.ok_or_else(|| {
-            err("inertia (the test body's moment of inertia about the fibre) is missing".into())
+        let (m, _) = parse_quantity(&s, dim).map_err(|cause| {
+            self.err(FibreProblem::Quantity {
+                key: key.to_string(),
+                cause,
+            })
         })?;
-        let period = match (positive("period", Dimension::Time)?, text_of("track")?) {
+        if m.value <= 0.0 {
+            return Err(self.err(FibreProblem::TrialNotPositive {
+                key: key.to_string(),
+                text: s,
+            }));
+        }
+        Ok(Some(m))
+    }
+
+    /// The whole trial; track paths are resolved against `dir`.
+    fn read(&self, dir: &Path) -> Result<TrialInput, PlanError> {
+        let fibre = Fibre::from_table(
+            self.raw,
+            self.path,
+            &self.table,
+            &["name", "inertia", "period", "track"],
+        )?;
+        let name = self.text("name")?.unwrap_or_else(|| self.table.clone());
+        let inertia = self
+            .positive("inertia", Dimension::Inertia)?
+            .ok_or_else(|| self.err(FibreProblem::NoInertia))?;
+        let period = match (
+            self.positive("period", Dimension::Time)?,
+            self.text("track")?,
+        ) {
             (Some(p), None) => PeriodSource::Given(p),
             (None, Some(track)) => PeriodSource::Track(dir.join(track)),
-            (Some(_), Some(_)) => return Err(err("give either period or track, not both".into())),
-            (None, None) => {
-                return Err(err(
-                    "the period is missing: give period = \"T ± u s\" or track = \"file.csv\""
-                        .into(),
-                ))
-            }
+            (Some(_), Some(_)) => return Err(self.err(FibreProblem::PeriodAndTrack)),
+            (None, None) => return Err(self.err(FibreProblem::NoPeriod)),
         };
-        out.push(TrialInput {
+        Ok(TrialInput {
             name,
             fibre,
             inertia,
             period,
-        });
+        })
     }
-    Ok(out)
 }
 
 /// Evaluate one trial given its period.
 pub fn evaluate(input: &TrialInput, period: Measured) -> Result<TrialResult, PlanError> {
     if !(period.value > 0.0 && period.value.is_finite()) {
-        return Err(PlanError::Input(format!(
-            "{}: the period must be a positive number of seconds (got {})",
-            input.name, period.value
-        )));
+        return Err(PlanError::BadPeriod {
+            trial: input.name.clone(),
+            period_s: period.value,
+        });
     }
     let f = &input.fibre;
     let mut inputs: Vec<(String, Measured)> = vec![
@@ -177,10 +210,11 @@ pub fn evaluate(input: &TrialInput, period: Measured) -> Result<TrialResult, Pla
 
 /// Write trial results as CSV (one row per trial), values SI with their standard uncertainties.
 pub fn write_csv(path: &Path, results: &[TrialResult]) -> Result<(), PlanError> {
-    let io = |e: &dyn std::fmt::Display| {
-        PlanError::Input(format!("{}: cannot write: {e}", path.display()))
+    let io = |cause: csv::Error| PlanError::CsvWrite {
+        path: path.to_path_buf(),
+        cause,
     };
-    let mut w = csv::Writer::from_path(path).map_err(|e| io(&e))?;
+    let mut w = csv::Writer::from_path(path).map_err(io)?;
     w.write_record([
         "name",
         "material",
@@ -198,7 +232,7 @@ pub fn write_csv(path: &Path, results: &[TrialResult]) -> Result<(), PlanError> 
         "table_shear_modulus_Pa",
         "ratio_to_table",
     ])
-    .map_err(|e| io(&e))?;
+    .map_err(io)?;
     for r in results {
         let mut rec = vec![r.name.clone(), r.material.clone(), r.section.clone()];
         for m in [
@@ -213,9 +247,9 @@ pub fn write_csv(path: &Path, results: &[TrialResult]) -> Result<(), PlanError> 
         }
         rec.push(format!("{:e}", r.expected_shear_modulus_pa));
         rec.push(format!("{:.6}", r.ratio_to_table));
-        w.write_record(&rec).map_err(|e| io(&e))?;
+        w.write_record(&rec).map_err(io)?;
     }
-    w.flush().map_err(|e| io(&e))
+    w.flush().map_err(|e| io(e.into()))
 }
 
 /// The natural period of a free swing recorded in a track CSV: the spot's position along the scale
@@ -224,9 +258,46 @@ pub fn write_csv(path: &Path, results: &[TrialResult]) -> Result<(), PlanError> 
 /// sinusoid fit, `T_0 = 2 pi / omega_0`. A linear drift is fitted alongside.
 pub fn period_from_track(path: &Path) -> Result<Measured, PlanError> {
     use crate::analysis::{damped, period};
-    let shown = path.display();
-    let track =
-        crate::track::read_track(path).map_err(|e| PlanError::Input(format!("{shown}: {e}")))?;
+    let at = || path.to_path_buf();
+    let track = crate::track::read_track(path)
+        .map_err(|cause| PlanError::TrackRead { path: at(), cause })?;
+    let (t, y) = swing_of(&track);
+    if t.len() < MIN_TRACK_ROWS {
+        return Err(PlanError::TrackTooFewRows {
+            path: at(),
+            rows: t.len(),
+        });
+    }
+    let spec = period::spectrum(&t, &y, &period::SpectrumOptions::default())
+        .map_err(|cause| PlanError::TrackSpectrum { path: at(), cause })?;
+    let (t0, t1) = (t[0], t[t.len() - 1]);
+    if t1 - t0 < 1.5 * spec.period() {
+        return Err(PlanError::TrackTooShort {
+            path: at(),
+            span_s: t1 - t0,
+            period_s: spec.period(),
+        });
+    }
+    let fit = damped::fit_damped(
+        &t,
+        &y,
+        t0,
+        0.5 * (t0 + t1),
+        2.0 * std::f64::consts::PI / spec.period(),
+        true,
+    )
+    .map_err(|cause| PlanError::TrackFit { path: at(), cause })?;
+    let (w0, uw) = fit.omega0();
+    let period = 2.0 * std::f64::consts::PI / w0;
+    if !(period.is_finite() && period > 0.0) {
+        return Err(PlanError::TrackNoFrequency { path: at() });
+    }
+    Ok(Measured::new(period, period * uw / w0))
+}
+
+/// Times and positions along the scale of the rows with a finite spot position: `x_mm` when the track
+/// has screen positions, otherwise the image's `x_px`.
+fn swing_of(track: &crate::track::TrackFile) -> (Vec<f64>, Vec<f64>) {
     let mut t = Vec::new();
     let mut y = Vec::new();
     for r in &track.rows {
@@ -243,37 +314,5 @@ pub fn period_from_track(path: &Path) -> Result<Measured, PlanError> {
             y.push(v);
         }
     }
-    if t.len() < 32 {
-        return Err(PlanError::Input(format!(
-            "{shown}: only {} rows with a spot position; a period fit needs at least 32 covering a few swings",
-            t.len()
-        )));
-    }
-    let spec = period::spectrum(&t, &y, &period::SpectrumOptions::default())
-        .map_err(|e| PlanError::Input(format!("{shown}: {e}")))?;
-    let (t0, t1) = (t[0], t[t.len() - 1]);
-    if t1 - t0 < 1.5 * spec.period() {
-        return Err(PlanError::Input(format!(
-            "{shown}: the track covers {:.1} s, less than 1.5 periods (about {:.1} s); record longer",
-            t1 - t0,
-            spec.period()
-        )));
-    }
-    let fit = damped::fit_damped(
-        &t,
-        &y,
-        t0,
-        0.5 * (t0 + t1),
-        2.0 * std::f64::consts::PI / spec.period(),
-        true,
-    )
-    .map_err(|e| PlanError::Input(format!("{shown}: the damped fit failed: {e}")))?;
-    let (w0, uw) = fit.omega0();
-    let period = 2.0 * std::f64::consts::PI / w0;
-    if !(period.is_finite() && period > 0.0) {
-        return Err(PlanError::Input(format!(
-            "{shown}: the fit gave no usable frequency"
-        )));
-    }
-    Ok(Measured::new(period, period * uw / w0))
+    (t, y)
 }
