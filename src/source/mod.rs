@@ -22,6 +22,7 @@ mod keyplan;
 mod linked;
 mod natural;
 mod pixels;
+mod pixfmt;
 mod sequence;
 mod thin;
 mod times;
