@@ -8,9 +8,9 @@
 use crate::analysis::damped::FitError;
 use crate::analysis::period::SpectrumError;
 use crate::analysis::uncertainty::PropagationError;
-use crate::export::track_csv::TrackFileError;
 use crate::plan::materials::UnknownMaterial;
 use crate::plan::predict::Damping;
+use crate::track::TrackFileError;
 use crate::units::QuantityError;
 use std::path::PathBuf;
 use thiserror::Error;

@@ -2,10 +2,10 @@
 
 use crate::calib::CalibError;
 use crate::error::IoError;
-use crate::track::TrackFileError;
 use crate::source::camera::CameraError;
 use crate::source::replay::PaceError;
 use crate::source::SourceError;
+use crate::track::TrackFileError;
 use std::path::PathBuf;
 use thiserror::Error;
 

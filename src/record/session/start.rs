@@ -3,12 +3,12 @@
 //! run goes on from.
 
 use super::{unix_now, utc_text, SessionConfig};
-use crate::track::TrackWriter;
 use crate::record::events::EventLog;
 use crate::record::keep::FrameKeeper;
 use crate::record::live::TimeBase;
 use crate::record::run_dir::{Resume, RunDir, SessionMeta};
 use crate::record::RecordError;
+use crate::track::TrackWriter;
 use std::time::Instant;
 
 /// The run folder, open and noted in its metadata, with what the live loop starts from.
