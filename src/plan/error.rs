@@ -27,7 +27,7 @@ pub enum PlanError {
     Fibre {
         path: PathBuf,
         table: String,
-        problem: FibreProblem,
+        problem: Box<FibreProblem>,
     },
     #[error("{path}: the setup file has no [fibre] table; add one with material, diameter (or width and thickness) and length, e.g.\n[fibre]\nmaterial = \"tungsten\"\ndiameter = \"30 ± 1 um\"\nlength = \"400 ± 2 mm\"")]
     NoFibre { path: PathBuf },
