@@ -9,7 +9,7 @@ use crate::analysis::damped::FitError;
 use crate::analysis::period::SpectrumError;
 use crate::analysis::uncertainty::PropagationError;
 use crate::plan::materials::UnknownMaterial;
-use crate::plan::predict::Damping;
+use crate::plan::prediction::Damping;
 use crate::track::TrackFileError;
 use crate::units::QuantityError;
 use std::path::PathBuf;
@@ -27,7 +27,7 @@ pub enum PlanError {
     Fibre {
         path: PathBuf,
         table: String,
-        problem: FibreProblem,
+        problem: Box<FibreProblem>,
     },
     #[error("{path}: the setup file has no [fibre] table; add one with material, diameter (or width and thickness) and length, e.g.\n[fibre]\nmaterial = \"tungsten\"\ndiameter = \"30 ± 1 um\"\nlength = \"400 ± 2 mm\"")]
     NoFibre { path: PathBuf },
@@ -112,4 +112,37 @@ pub enum FibreProblem {
     PeriodAndTrack,
     #[error("the period is missing: give period = \"T ± u s\" or track = \"file.csv\"")]
     NoPeriod,
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn messages_name_the_value_and_what_to_do() {
+        let e = PlanError::BadDamping(Damping::Time(-5.0)).to_string();
+        assert_eq!(e, "the damping must be a positive number (Time(-5.0))");
+        let e = PlanError::BadNoise { noise_mm: -1.0 }.to_string();
+        assert_eq!(e, "the tracker noise must be a positive number (got -1 mm)");
+        let e = PlanError::TrackTooFewRows {
+            path: "swing.csv".into(),
+            rows: 10,
+        }
+        .to_string();
+        assert_eq!(e, "swing.csv: only 10 rows with a spot position; a period fit needs at least 32 covering a few swings");
+        let e = PlanError::TrackTooShort {
+            path: "swing.csv".into(),
+            span_s: 39.04,
+            period_s: 300.0,
+        }
+        .to_string();
+        assert_eq!(e, "swing.csv: the track covers 39.0 s, less than 1.5 periods (about 300.0 s); record longer");
+        let e = PlanError::Fibre {
+            path: "x.toml".into(),
+            table: "trial 2".into(),
+            problem: Box::new(FibreProblem::PeriodAndTrack),
+        }
+        .to_string();
+        assert_eq!(e, "x.toml: [trial 2] give either period or track, not both");
+    }
 }

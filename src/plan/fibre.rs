@@ -81,7 +81,7 @@ impl TableReader<'_> {
         PlanError::Fibre {
             path: self.path.to_path_buf(),
             table: self.table.to_string(),
-            problem,
+            problem: Box::new(problem),
         }
     }
     fn text(&self, key: &str) -> Result<Option<&str>, PlanError> {

@@ -108,7 +108,7 @@ impl TrialKeys<'_> {
         PlanError::Fibre {
             path: self.path.to_path_buf(),
             table: self.table.clone(),
-            problem,
+            problem: Box::new(problem),
         }
     }
     fn text(&self, key: &str) -> Result<Option<String>, PlanError> {
