@@ -12,7 +12,7 @@ use super::{Delivery, FrameSource, OpenOptions, SourceError, SourceInfo, INSTALL
 use crate::error::IoError;
 use crate::frame::{Channel, Frame};
 use crate::units::Seconds;
-use openh264::decoder::Decoder;
+use openh264::decoder::{DecodedYUV, Decoder};
 use openh264::formats::YUVSource;
 use std::fs::File;
 use std::io::{BufReader, Read};
@@ -132,124 +132,152 @@ fn complete_boxes_end(file: &mut BufReader<File>, len: u64) -> u64 {
     end
 }
 
+/// The error for a file the built-in reader cannot decode: `codec` says what it holds, `why` why
+/// not.
+fn needs_decoder(shown: &str, codec: String, why: &str) -> SourceError {
+    SourceError::NeedsDecoder {
+        path: shown.to_string(),
+        codec,
+        advice: format!("{why}; the built-in reader handles only MP4 with H.264 without B-frames: {INSTALL_FFMPEG}"),
+    }
+}
+
+/// Open `path` and read its MP4 index (up to the last complete top-level box).
+fn read_index(path: &Path, shown: &str) -> Result<mp4::Mp4Reader<BufReader<File>>, SourceError> {
+    let file = File::open(path).map_err(|e| SourceError::from_io(path, e))?;
+    let size = file
+        .metadata()
+        .map_err(|source| {
+            SourceError::Io(IoError {
+                path: shown.into(),
+                source,
+            })
+        })?
+        .len();
+    let mut file = BufReader::new(file);
+    let size = complete_boxes_end(&mut file, size);
+    mp4::Mp4Reader::read_header(file, size).map_err(|e| {
+        let (container, codec) = container_guess(path);
+        if container == "MP4/QuickTime" {
+            return needs_decoder(
+                shown,
+                format!("{container}, {codec}"),
+                &format!("cannot read its index ({e}); a recording cut short often lacks it"),
+            );
+        }
+        needs_decoder(shown, format!("{container}, {codec}"), "not an MP4 file")
+    })
+}
+
+/// What the decoder needs from `track`'s H.264 configuration, when the built-in decoder can decode
+/// it: the sequence and picture parameter sets as Annex B NAL units (sent before the first sample)
+/// and the size of the samples' NAL length prefixes.
+fn decoder_setup(track: &mp4::Mp4Track, shown: &str) -> Result<(Vec<u8>, usize), SourceError> {
+    let stbl = &track.trak.mdia.minf.stbl;
+    let Some(avc1) = stbl.stsd.avc1.as_ref() else {
+        let codec = if stbl.stsd.hev1.is_some() {
+            "HEVC (H.265)".to_string()
+        } else if stbl.stsd.vp09.is_some() {
+            "VP9".to_string()
+        } else {
+            track
+                .box_type()
+                .map(|b| format!("codec '{b}'"))
+                .unwrap_or_else(|_| "a codec other than H.264".into())
+        };
+        return Err(needs_decoder(
+            shown,
+            codec,
+            "the built-in decoder reads only H.264",
+        ));
+    };
+    if stbl
+        .ctts
+        .as_ref()
+        .is_some_and(|c| c.entries.iter().any(|e| e.sample_offset != 0))
+    {
+        return Err(needs_decoder(
+            shown,
+            "H.264 with B-frames".into(),
+            "frames are stored out of display order (B-frames), which the built-in decoder cannot decode",
+        ));
+    }
+    let mut headers = Vec::new();
+    for s in &avc1.avcc.sequence_parameter_sets {
+        push_nal(&mut headers, &s.bytes);
+    }
+    for p in &avc1.avcc.picture_parameter_sets {
+        push_nal(&mut headers, &p.bytes);
+    }
+    let len_size = (avc1.avcc.length_size_minus_one & 3) as usize + 1;
+    Ok((headers, len_size))
+}
+
+/// The source's description and sizes.
+fn source_info(
+    path: &Path,
+    track: &mp4::Mp4Track,
+    every: Option<Seconds>,
+    key_frames_only: bool,
+) -> SourceInfo {
+    let (w, h) = (track.width() as usize, track.height() as usize);
+    let expected = match every {
+        None => Some(track.sample_count() as u64),
+        Some(e) => {
+            let d = track.duration().as_secs_f64();
+            Some((d / e.0).ceil() as u64)
+        }
+    };
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    SourceInfo {
+        description: format!(
+            "{name}: h264 {w}x{h}, built-in decoder{}",
+            if key_frames_only {
+                ", key frames only"
+            } else {
+                ""
+            }
+        ),
+        width: w,
+        height: h,
+        expected_frames: expected,
+        crop: None,
+    }
+}
+
 impl BuiltinH264Source {
     pub fn open(path: &Path, opts: &OpenOptions) -> Result<Self, SourceError> {
         let shown = path.display().to_string();
-        let file = File::open(path).map_err(|e| SourceError::from_io(path, e))?;
-        let size = file
-            .metadata()
-            .map_err(|source| {
-                SourceError::Io(IoError {
-                    path: shown.clone().into(),
-                    source,
-                })
-            })?
-            .len();
-        let needs = |codec: String, why: &str| {
-            SourceError::NeedsDecoder {
-            path: shown.clone(),
-            codec,
-            advice: format!("{why}; the built-in reader handles only MP4 with H.264 without B-frames: {INSTALL_FFMPEG}"),
-        }
-        };
-        let mut file = BufReader::new(file);
-        let size = complete_boxes_end(&mut file, size);
-        let reader = match mp4::Mp4Reader::read_header(file, size) {
-            Ok(r) => r,
-            Err(e) => {
-                let (container, codec) = container_guess(path);
-                if container == "MP4/QuickTime" {
-                    return Err(needs(
-                        format!("{container}, {codec}"),
-                        &format!(
-                            "cannot read its index ({e}); a recording cut short often lacks it"
-                        ),
-                    ));
-                }
-                return Err(needs(format!("{container}, {codec}"), "not an MP4 file"));
-            }
-        };
+        let reader = read_index(path, &shown)?;
         let Some(track) = reader
             .tracks()
             .values()
             .find(|t| matches!(t.track_type(), Ok(mp4::TrackType::Video)))
         else {
-            return Err(needs(
+            return Err(needs_decoder(
+                &shown,
                 "no video track".into(),
                 "no video track in this MP4 file",
             ));
         };
-        let stbl = &track.trak.mdia.minf.stbl;
-        let Some(avc1) = stbl.stsd.avc1.as_ref() else {
-            let codec = if stbl.stsd.hev1.is_some() {
-                "HEVC (H.265)".to_string()
-            } else if stbl.stsd.vp09.is_some() {
-                "VP9".to_string()
-            } else {
-                track
-                    .box_type()
-                    .map(|b| format!("codec '{b}'"))
-                    .unwrap_or_else(|_| "a codec other than H.264".into())
-            };
-            return Err(needs(codec, "the built-in decoder reads only H.264"));
-        };
-        if stbl
-            .ctts
-            .as_ref()
-            .is_some_and(|c| c.entries.iter().any(|e| e.sample_offset != 0))
-        {
-            return Err(needs(
-                "H.264 with B-frames".into(),
-                "frames are stored out of display order (B-frames), which the built-in decoder cannot decode",
-            ));
-        }
-        let mut headers = Vec::new();
-        for s in &avc1.avcc.sequence_parameter_sets {
-            push_nal(&mut headers, &s.bytes);
-        }
-        for p in &avc1.avcc.picture_parameter_sets {
-            push_nal(&mut headers, &p.bytes);
-        }
-        let len_size = (avc1.avcc.length_size_minus_one & 3) as usize + 1;
+        let (headers, len_size) = decoder_setup(track, &shown)?;
         let (track_id, samples, timescale) = (
             track.track_id(),
             track.sample_count(),
             track.timescale() as f64,
         );
-        let (w, h) = (track.width() as usize, track.height() as usize);
-        let key_plan = opts
-            .every
-            .and_then(|e| key_plan(track, e, if timescale > 0.0 { timescale } else { 1.0 }));
+        let timescale = if timescale > 0.0 { timescale } else { 1.0 };
+        let key_plan = opts.every.and_then(|e| key_plan(track, e, timescale));
         let decoder = Decoder::new().map_err(|e| SourceError::Decode {
             origin: shown.clone(),
             message: format!("cannot start the built-in H.264 decoder: {e}"),
         })?;
-        let expected = match opts.every {
-            None => Some(samples as u64),
-            Some(e) => {
-                let d = track.duration().as_secs_f64();
-                Some((d / e.0).ceil() as u64)
-            }
-        };
-        let name = path
-            .file_name()
-            .map(|n| n.to_string_lossy().into_owned())
-            .unwrap_or_default();
+        let info = source_info(path, track, opts.every, key_plan.is_some());
         Ok(Self {
-            info: SourceInfo {
-                description: format!(
-                    "{name}: h264 {w}x{h}, built-in decoder{}",
-                    if key_plan.is_some() {
-                        ", key frames only"
-                    } else {
-                        ""
-                    }
-                ),
-                width: w,
-                height: h,
-                expected_frames: expected,
-                crop: None,
-            },
+            info,
             path: path.to_path_buf(),
             reader,
             decoder,
@@ -258,7 +286,7 @@ impl BuiltinH264Source {
             next_sample: 1,
             len_size,
             headers,
-            timescale: if timescale > 0.0 { timescale } else { 1.0 },
+            timescale,
             first_pts: None,
             channel: opts.channel,
             thin: Thinner::new(opts.every),
@@ -286,6 +314,80 @@ impl BuiltinH264Source {
             t_s: self.last_t,
             message,
         }))
+    }
+}
+
+/// The delivery for the picture decoded from frame `index` at `t` (named `origin` in messages):
+/// the frame, `Unreadable` when the decoder gave no picture, or an error when its size is not the
+/// track's `size`.
+fn picture_delivery(
+    decoded: Result<Option<DecodedYUV<'_>>, openh264::Error>,
+    (index, t, origin): (u64, Seconds, String),
+    size: (usize, usize),
+    channel: Channel,
+    rgb: &mut Vec<u8>,
+) -> Result<Delivery, SourceError> {
+    let unreadable = |origin, reason| Delivery::Unreadable {
+        index,
+        t,
+        origin,
+        reason,
+    };
+    let yuv = match decoded {
+        Ok(Some(yuv)) => yuv,
+        Ok(None) => return Ok(unreadable(origin, "the decoder returned no picture".into())),
+        Err(e) => return Ok(unreadable(origin, format!("H.264 decoding failed: {e}"))),
+    };
+    let (w, h) = yuv.dimensions();
+    if (w, h) != size {
+        return Err(SourceError::Decode {
+            origin,
+            message: format!(
+                "picture is {w}x{h} but the track says {}x{}",
+                size.0, size.1
+            ),
+        });
+    }
+    let plane = if channel == Channel::Luma {
+        super::pixels::plane_from_limited_luma(w, h, yuv.y(), yuv.strides().0)
+    } else {
+        rgb.resize(w * h * 3, 0);
+        yuv.write_rgb8(rgb);
+        super::pixels::plane_from_rgb24(w, h, rgb, channel)
+    };
+    Ok(Delivery::Frame(Frame {
+        index,
+        t,
+        plane,
+        origin,
+    }))
+}
+
+impl BuiltinH264Source {
+    /// One sample's NAL units in Annex B form, the parameter sets before the first: `None` when
+    /// the length prefixes overrun the sample, an error at the first B slice (frame `index`).
+    fn annexb(&mut self, bytes: &[u8], index: u64) -> Result<Option<Vec<u8>>, SourceError> {
+        let Some(nals) = split_length_prefixed(bytes, self.len_size) else {
+            return Ok(None);
+        };
+        let mut annexb = if !self.headers.is_empty() {
+            std::mem::take(&mut self.headers)
+        } else {
+            Vec::new()
+        };
+        for nal in &nals {
+            if slice_kind(nal) == Some(SliceKind::B) {
+                return Err(SourceError::NeedsDecoder {
+                    path: self.path.display().to_string(),
+                    codec: format!("H.264 with B-frames (first at frame {index})"),
+                    advice: format!(
+                        "the built-in decoder cannot decode B-frames: {INSTALL_FFMPEG}"
+                    ),
+                });
+            }
+            push_nal(&mut annexb, nal);
+        }
+        Ok(Some(annexb))
     }
 }
 
@@ -322,85 +424,43 @@ impl FrameSource for BuiltinH264Source {
             let first = *self.first_pts.get_or_insert(pts);
             let t = Seconds((pts - first) as f64 / self.timescale);
             let origin = format!("frame {index} of {}", self.path.display());
-            let Some(nals) = split_length_prefixed(&sample.bytes, self.len_size) else {
-                self.last_t = t.0;
-                if self.thin.keep(t) {
-                    return Some(Ok(Delivery::Unreadable {
-                        index,
-                        t,
-                        origin,
-                        reason: "NAL unit lengths overrun the sample".into(),
-                    }));
+            let annexb = match self.annexb(&sample.bytes, index) {
+                Ok(Some(a)) => a,
+                Ok(None) => {
+                    self.last_t = t.0;
+                    if self.thin.keep(t) {
+                        return Some(Ok(Delivery::Unreadable {
+                            index,
+                            t,
+                            origin,
+                            reason: "NAL unit lengths overrun the sample".into(),
+                        }));
+                    }
+                    continue;
                 }
-                continue;
-            };
-            let mut annexb = if !self.headers.is_empty() {
-                std::mem::take(&mut self.headers)
-            } else {
-                Vec::new()
-            };
-            for nal in &nals {
-                if slice_kind(nal) == Some(SliceKind::B) {
+                Err(e) => {
                     self.done = true;
-                    return Some(Err(SourceError::NeedsDecoder {
-                        path: self.path.display().to_string(),
-                        codec: format!("H.264 with B-frames (first at frame {index})"),
-                        advice: format!(
-                            "the built-in decoder cannot decode B-frames: {INSTALL_FFMPEG}"
-                        ),
-                    }));
+                    return Some(Err(e));
                 }
-                push_nal(&mut annexb, nal);
-            }
+            };
             let keep = self.thin.keep(t);
             self.last_t = t.0;
             let decoded = self.decoder.decode(&annexb);
             if !keep {
                 continue;
             }
-            let yuv = match decoded {
-                Ok(Some(yuv)) => yuv,
-                Ok(None) => {
-                    return Some(Ok(Delivery::Unreadable {
-                        index,
-                        t,
-                        origin,
-                        reason: "the decoder returned no picture".into(),
-                    }))
-                }
-                Err(e) => {
-                    return Some(Ok(Delivery::Unreadable {
-                        index,
-                        t,
-                        origin,
-                        reason: format!("H.264 decoding failed: {e}"),
-                    }))
-                }
-            };
-            let (w, h) = yuv.dimensions();
-            if (w, h) != (self.info.width, self.info.height) {
+            let size = (self.info.width, self.info.height);
+            let delivery = picture_delivery(
+                decoded,
+                (index, t, origin),
+                size,
+                self.channel,
+                &mut self.rgb,
+            );
+            if delivery.is_err() {
                 self.done = true;
-                return Some(Err(SourceError::Decode {
-                    origin,
-                    message: format!(
-                        "picture is {w}x{h} but the track says {}x{}",
-                        self.info.width, self.info.height
-                    ),
-                }));
             }
-            let plane = if self.channel == Channel::Luma {
-                super::pixels::plane_from_limited_luma(w, h, yuv.y(), yuv.strides().0)
-            } else {
-                self.rgb.resize(w * h * 3, 0);
-                yuv.write_rgb8(&mut self.rgb);
-                super::pixels::plane_from_rgb24(w, h, &self.rgb, self.channel)
-            };
-            return Some(Ok(Delivery::Frame(Frame {
-                index,
-                t,
-                plane,
-                origin,
-            })));
+            return Some(delivery);
         }
     }
 }

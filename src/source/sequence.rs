@@ -82,58 +82,102 @@ fn list_files(path: &Path) -> Result<(Vec<PathBuf>, PathBuf), SourceError> {
     Ok((files, folder))
 }
 
+/// Each file's time from the times file `tp`, checked to rise in file-name order.
+fn times_from_file(all: &[PathBuf], tp: &Path) -> Result<Vec<Seconds>, SourceError> {
+    let map = read_times(tp)?;
+    let mut out = Vec::with_capacity(all.len());
+    let mut prev: Option<(f64, usize, String)> = None;
+    for f in all {
+        let n = name_of(f);
+        let Some(e) = map.get(&n) else {
+            return Err(SourceError::Invalid {
+                path: tp.display().to_string(),
+                message: format!("no time for {n}; add a row '{n},<seconds>' or remove the file"),
+            });
+        };
+        if let Some((pt, pl, pn)) = &prev {
+            if e.t.0 <= *pt {
+                return Err(SourceError::BadLine {
+                    path: tp.display().to_string(),
+                    line: e.line,
+                    message: format!(
+                        "{n} comes after {pn} (line {pl}) in file-name order but its time {} s is not later than {pt} s",
+                        e.t.0
+                    ),
+                });
+            }
+        }
+        prev = Some((e.t.0, e.line, n));
+        out.push(e.t);
+    }
+    Ok(out)
+}
+
+/// Each file's time: from the times file (`--times`, else `times.csv` in `folder`), else from the
+/// frame rate `--fps`.
+fn times_of(
+    all: &[PathBuf],
+    folder: &Path,
+    opts: &OpenOptions,
+    shown: &str,
+) -> Result<Vec<Seconds>, SourceError> {
+    let times_path = opts.times.clone().or_else(|| {
+        let p = folder.join("times.csv");
+        p.is_file().then_some(p)
+    });
+    if let Some(tp) = &times_path {
+        times_from_file(all, tp)
+    } else if let Some(fps) = opts.fps {
+        if !(fps.is_finite() && fps > 0.0) {
+            return Err(SourceError::Invalid {
+                path: shown.to_string(),
+                message: format!("--fps {fps} is not a positive frame rate"),
+            });
+        }
+        Ok((0..all.len()).map(|i| Seconds(i as f64 / fps)).collect())
+    } else {
+        Err(SourceError::Invalid {
+            path: shown.to_string(),
+            message: "no times.csv beside the images: give the frame times with --times FILE (CSV 'file,t_s') or the frame rate with --fps F".into(),
+        })
+    }
+}
+
+/// The one picture size of `files`, from their headers: the first readable header sets the size,
+/// any other size stops here.
+fn common_size(files: &[(u64, Seconds, PathBuf)], shown: &str) -> Result<(u32, u32), SourceError> {
+    let mut size: Option<(u32, u32, String)> = None;
+    for (_, _, f) in files {
+        let Ok((w, h)) = image::image_dimensions(f) else {
+            continue;
+        };
+        match &size {
+            None => size = Some((w, h, name_of(f))),
+            Some((sw, sh, first)) if (*sw, *sh) != (w, h) => {
+                return Err(SourceError::Invalid {
+                    path: f.display().to_string(),
+                    message: format!(
+                        "this image is {w}x{h} but {first} (the first image) is {sw}x{sh}; all frames of a run must have one size"
+                    ),
+                });
+            }
+            Some(_) => {}
+        }
+    }
+    match size {
+        Some((w, h, _)) => Ok((w, h)),
+        None => Err(SourceError::Invalid {
+            path: shown.to_string(),
+            message: "none of the images can be read".into(),
+        }),
+    }
+}
+
 impl ImageSequence {
     pub fn open(path: &Path, opts: &OpenOptions) -> Result<Self, SourceError> {
         let shown = path.display().to_string();
         let (all, folder) = list_files(path)?;
-        let times_path = opts.times.clone().or_else(|| {
-            let p = folder.join("times.csv");
-            p.is_file().then_some(p)
-        });
-        let times: Vec<Seconds> = if let Some(tp) = &times_path {
-            let map = read_times(tp)?;
-            let mut out = Vec::with_capacity(all.len());
-            let mut prev: Option<(f64, usize, String)> = None;
-            for f in &all {
-                let n = name_of(f);
-                let Some(e) = map.get(&n) else {
-                    return Err(SourceError::Invalid {
-                        path: tp.display().to_string(),
-                        message: format!(
-                            "no time for {n}; add a row '{n},<seconds>' or remove the file"
-                        ),
-                    });
-                };
-                if let Some((pt, pl, pn)) = &prev {
-                    if e.t.0 <= *pt {
-                        return Err(SourceError::BadLine {
-                            path: tp.display().to_string(),
-                            line: e.line,
-                            message: format!(
-                                "{n} comes after {pn} (line {pl}) in file-name order but its time {} s is not later than {pt} s",
-                                e.t.0
-                            ),
-                        });
-                    }
-                }
-                prev = Some((e.t.0, e.line, n));
-                out.push(e.t);
-            }
-            out
-        } else if let Some(fps) = opts.fps {
-            if !(fps.is_finite() && fps > 0.0) {
-                return Err(SourceError::Invalid {
-                    path: shown,
-                    message: format!("--fps {fps} is not a positive frame rate"),
-                });
-            }
-            (0..all.len()).map(|i| Seconds(i as f64 / fps)).collect()
-        } else {
-            return Err(SourceError::Invalid {
-                path: shown,
-                message: "no times.csv beside the images: give the frame times with --times FILE (CSV 'file,t_s') or the frame rate with --fps F".into(),
-            });
-        };
+        let times = times_of(&all, &folder, opts, &shown)?;
         let mut thin = Thinner::new(opts.every);
         let files: Vec<(u64, Seconds, PathBuf)> = all
             .into_iter()
@@ -142,31 +186,7 @@ impl ImageSequence {
             .filter(|(_, (_, t))| thin.keep(*t))
             .map(|(i, (f, t))| (i as u64, t, f))
             .collect();
-        // Sizes from the headers: the first readable header sets the size, any other size stops here.
-        let mut size: Option<(u32, u32, String)> = None;
-        for (_, _, f) in &files {
-            let Ok((w, h)) = image::image_dimensions(f) else {
-                continue;
-            };
-            match &size {
-                None => size = Some((w, h, name_of(f))),
-                Some((sw, sh, first)) if (*sw, *sh) != (w, h) => {
-                    return Err(SourceError::Invalid {
-                        path: f.display().to_string(),
-                        message: format!(
-                            "this image is {w}x{h} but {first} (the first image) is {sw}x{sh}; all frames of a run must have one size"
-                        ),
-                    });
-                }
-                Some(_) => {}
-            }
-        }
-        let Some((w, h, _)) = size else {
-            return Err(SourceError::Invalid {
-                path: shown,
-                message: "none of the images can be read".into(),
-            });
-        };
+        let (w, h) = common_size(&files, &shown)?;
         let info = SourceInfo {
             description: format!("{} images in {}", files.len(), folder.display()),
             width: w as usize,
