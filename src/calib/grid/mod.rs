@@ -10,6 +10,7 @@
 //! 4. Axes: x runs along the grid direction closest to the image horizontal and grows to the right, y
 //!    grows towards the top of the image; the origin is the intersection nearest the hint.
 
+mod grow;
 pub mod period;
 pub mod refine;
 
@@ -18,7 +19,7 @@ use super::CalibError;
 use crate::frame::Plane;
 use crate::units::{PixelPoint, ScreenPoint};
 use image::{ImageBuffer, Luma};
-use std::collections::{HashMap, VecDeque};
+use std::collections::HashMap;
 
 /// A single-channel float image, row-major.
 #[derive(Debug, Clone, PartialEq)]
@@ -107,50 +108,6 @@ fn darkness(img: &Gray) -> Gray {
     Gray::new(img.w, img.h, out)
 }
 
-/// Position of the largest value within `r` px of `p` (integer pixels), if inside the image by `margin`.
-fn peak_near(s: &Gray, p: P, r: f64, margin: f64) -> Option<(P, f64)> {
-    let mut best: Option<(P, f64)> = None;
-    let ri = r.ceil() as i64;
-    let (cx, cy) = (p.0.round() as i64, p.1.round() as i64);
-    for y in cy - ri..=cy + ri {
-        for x in cx - ri..=cx + ri {
-            let (xf, yf) = (x as f64, y as f64);
-            if (xf - p.0).powi(2) + (yf - p.1).powi(2) > r * r {
-                continue;
-            }
-            if xf < margin
-                || yf < margin
-                || xf > s.w as f64 - 1.0 - margin
-                || yf > s.h as f64 - 1.0 - margin
-            {
-                continue;
-            }
-            let v = s.at(x as usize, y as usize) as f64;
-            if best.is_none_or(|b| v > b.1) {
-                best = Some(((xf, yf), v));
-            }
-        }
-    }
-    best
-}
-
-/// How much darker an intersection is than the four cell centres around it (smoothed darkness).
-fn crossing_contrast(s: &Gray, c: P, u: P, v: P) -> Option<f64> {
-    let centre = s.bilinear(c.0, c.1)?;
-    let mut cells = 0.0;
-    for (a, b) in [(0.5, 0.5), (0.5, -0.5), (-0.5, 0.5), (-0.5, -0.5)] {
-        cells += s.bilinear(c.0 + a * u.0 + b * v.0, c.1 + a * u.1 + b * v.1)? / 4.0;
-    }
-    Some(centre - cells)
-}
-
-struct Node {
-    p: P,
-    /// Local steps to the +i and +j neighbours.
-    u: P,
-    v: P,
-}
-
 /// Find the grid in a float image (0 = black, 1 = white) and give each intersection its screen
 /// position in mm; `name` is used in messages.
 pub fn detect(
@@ -186,18 +143,7 @@ pub fn detect_gray(
         image: name.to_string(),
         reason,
     };
-    if gray.w < 16 || gray.h < 16 {
-        return Err(fail(format!("the image is only {}x{} px", gray.w, gray.h)));
-    }
-    let hint = origin
-        .map(|o| (o.x, o.y))
-        .unwrap_or(((gray.w as f64 - 1.0) / 2.0, (gray.h as f64 - 1.0) / 2.0));
-    if !(hint.0 >= 0.0 && hint.1 >= 0.0 && hint.0 < gray.w as f64 && hint.1 < gray.h as f64) {
-        return Err(fail(format!(
-            "the origin hint ({}, {}) px is outside the {}x{} px image",
-            hint.0, hint.1, gray.w, gray.h
-        )));
-    }
+    let hint = origin_hint(gray, origin).map_err(fail)?;
     let d = darkness(gray);
     let n = 256.min(gray.w).min(gray.h);
     let per = period::lattice(&d, hint.0, hint.1, n).ok_or_else(|| {
@@ -206,155 +152,138 @@ pub fn detect_gray(
                 .into(),
         )
     })?;
-    let (lu, lv) = (norm(per.u), norm(per.v));
-    let spacing = 0.5 * (lu + lv);
-    if per.strength < 0.04 {
-        return Err(fail(format!(
-            "no repeating pattern of dark lines near the origin (repeat strength {:.3}); \
-             is the grid in view, lit and in focus?",
-            per.strength
-        )));
-    }
-    if per.strength < 0.15 {
-        return Err(fail(format!(
-            "the grid is too blurred or too faint: its lines repeat every {spacing:.1} px but stand out \
-             only weakly from noise (repeat strength {:.2}, need 0.15); focus the camera and light the \
-             screen evenly",
-            per.strength
-        )));
-    }
-    if lu / lv > 1.6 || lv / lu > 1.6 {
-        return Err(fail(format!(
-            "inconsistent pitch: the two line directions repeat every {lu:.1} px and {lv:.1} px; a square \
-             grid should give about equal spacings"
-        )));
-    }
-    if spacing < 3.0 {
-        return Err(fail(format!(
-            "the lines are only {spacing:.1} px apart, too close to locate; move the camera closer or use \
-             a coarser grid"
-        )));
-    }
+    let (lu, lv, spacing) = check_period(&per).map_err(fail)?;
     let s = Gray::from_image(&imageproc::filter::gaussian_blur_f32(
         &d.to_image(),
         (0.25 * spacing).max(0.7) as f32,
     ));
     let margin = 0.8 * spacing;
-    let (seed_px, _) = peak_near(&s, hint, 0.75 * spacing, margin)
-        .ok_or_else(|| fail("the origin hint is too close to the image edge".into()))?;
-    let seed = refine::intersection(&d, seed_px, per.u, per.v).ok_or_else(|| {
-        fail(format!(
-            "the grid is too blurred: the lines near the origin ({:.0}, {:.0}) px cannot be located",
-            seed_px.0, seed_px.1
-        ))
-    })?;
-    let c0 = crossing_contrast(&s, seed, per.u, per.v).unwrap_or(0.0);
-    if c0.is_nan() || c0 <= 0.0 {
-        return Err(fail(
-            "the pattern near the origin has no line crossings darker than the cells; is it a grid of dark lines on light paper?"
-                .into(),
+    let (seed, c0) = seed_crossing(&d, &s, hint, &per, spacing, margin).map_err(fail)?;
+    let field = grow::Field {
+        d: &d,
+        s: &s,
+        margin,
+        c0,
+    };
+    let nodes = grow::grow(&field, seed, per.u, per.v, spacing);
+    let (ni, nj) = check_lines(&nodes).map_err(fail)?;
+    let (pairs, u_is_x) = index_pairs(&nodes, &per, (lu, lv), hint, pitch_mm);
+    let pairs = keep_consistent(pairs, spacing, &fail)?;
+    let (nx, ny) = if u_is_x { (ni, nj) } else { (nj, ni) };
+    Ok(GridDetection {
+        pairs,
+        lines: (nx, ny),
+        spacing_px: spacing,
+    })
+}
+
+/// The origin hint (the image centre when none is given), checked to lie in the image.
+fn origin_hint(gray: &Gray, origin: Option<PixelPoint>) -> Result<P, String> {
+    if gray.w < 16 || gray.h < 16 {
+        return Err(format!("the image is only {}x{} px", gray.w, gray.h));
+    }
+    let hint = origin
+        .map(|o| (o.x, o.y))
+        .unwrap_or(((gray.w as f64 - 1.0) / 2.0, (gray.h as f64 - 1.0) / 2.0));
+    if !(hint.0 >= 0.0 && hint.1 >= 0.0 && hint.0 < gray.w as f64 && hint.1 < gray.h as f64) {
+        return Err(format!(
+            "the origin hint ({}, {}) px is outside the {}x{} px image",
+            hint.0, hint.1, gray.w, gray.h
         ));
     }
-    let mut nodes: HashMap<(i32, i32), Node> = HashMap::new();
-    nodes.insert(
-        (0, 0),
-        Node {
-            p: seed,
-            u: per.u,
-            v: per.v,
-        },
-    );
-    // Occupied places, on cells of half a spacing, so that no place gets two lattice indices.
-    let cell = 0.5 * spacing;
-    let cell_of = |p: P| ((p.0 / cell).floor() as i64, (p.1 / cell).floor() as i64);
-    let mut taken: HashMap<(i64, i64), P> = HashMap::new();
-    taken.insert(cell_of(seed), seed);
-    let mut queue = VecDeque::from([(0i32, 0i32)]);
-    let max_nodes = 40_000;
-    while let Some(key) = queue.pop_front() {
-        if nodes.len() >= max_nodes {
-            break;
-        }
-        let (p, u, v) = {
-            let n = &nodes[&key];
-            (n.p, n.u, n.v)
-        };
-        for (di, dj) in [(1, 0), (-1, 0), (0, 1), (0, -1)] {
-            let nk = (key.0 + di, key.1 + dj);
-            if nodes.contains_key(&nk) {
-                continue;
-            }
-            let back = (key.0 - di, key.1 - dj);
-            // Continue the step we came along if known (follows the perspective), else the local vector.
-            let step = match nodes.get(&back) {
-                Some(b) => (p.0 - b.p.0, p.1 - b.p.1),
-                None => {
-                    let base = if di != 0 { u } else { v };
-                    let sgn = (di + dj) as f64;
-                    (sgn * base.0, sgn * base.1)
-                }
-            };
-            let pred = (p.0 + step.0, p.1 + step.1);
-            let r = 0.3 * norm(step);
-            let Some((cand, _)) = peak_near(&s, pred, r, margin) else {
-                continue;
-            };
-            let (nu, nv) = if di != 0 {
-                ((di as f64 * step.0, di as f64 * step.1), v)
-            } else {
-                (u, (dj as f64 * step.0, dj as f64 * step.1))
-            };
-            if crossing_contrast(&s, cand, nu, nv).is_none_or(|c| c < 0.3 * c0) {
-                continue;
-            }
-            let Some(q) = refine::intersection(&d, cand, nu, nv) else {
-                continue;
-            };
-            if norm((q.0 - pred.0, q.1 - pred.1)) > 0.35 * norm(step) {
-                continue;
-            }
-            // Every other known neighbour must agree on where this intersection is (stops row slips).
-            let disagree = [(1, 0), (-1, 0), (0, 1), (0, -1)].iter().any(|&(a, b)| {
-                let k2 = (nk.0 + a, nk.1 + b);
-                if k2 == key {
-                    return false;
-                }
-                nodes.get(&k2).is_some_and(|o| {
-                    let e = (
-                        o.p.0 - a as f64 * o.u.0 - b as f64 * o.v.0,
-                        o.p.1 - a as f64 * o.u.1 - b as f64 * o.v.1,
-                    );
-                    norm((q.0 - e.0, q.1 - e.1)) > 0.3 * norm(step)
-                })
-            });
-            if disagree {
-                continue;
-            }
-            let (cx, cy) = cell_of(q);
-            let clash = (cx - 1..=cx + 1)
-                .flat_map(|a| (cy - 1..=cy + 1).map(move |b| (a, b)))
-                .filter_map(|k| taken.get(&k))
-                .any(|o| norm((o.0 - q.0, o.1 - q.1)) < 0.5 * norm(step));
-            if clash {
-                continue;
-            }
-            taken.insert((cx, cy), q);
-            nodes.insert(nk, Node { p: q, u: nu, v: nv });
-            queue.push_back(nk);
-        }
+    Ok(hint)
+}
+
+/// The lengths of the two lattice vectors and the line spacing (their mean), px, when the repeat is
+/// strong, square and coarse enough to follow.
+fn check_period(per: &period::Period) -> Result<(f64, f64, f64), String> {
+    let (lu, lv) = (norm(per.u), norm(per.v));
+    let spacing = 0.5 * (lu + lv);
+    if per.strength < 0.04 {
+        return Err(format!(
+            "no repeating pattern of dark lines near the origin (repeat strength {:.3}); \
+             is the grid in view, lit and in focus?",
+            per.strength
+        ));
     }
+    if per.strength < 0.15 {
+        return Err(format!(
+            "the grid is too blurred or too faint: its lines repeat every {spacing:.1} px but stand out \
+             only weakly from noise (repeat strength {:.2}, need 0.15); focus the camera and light the \
+             screen evenly",
+            per.strength
+        ));
+    }
+    if lu / lv > 1.6 || lv / lu > 1.6 {
+        return Err(format!(
+            "inconsistent pitch: the two line directions repeat every {lu:.1} px and {lv:.1} px; a square \
+             grid should give about equal spacings"
+        ));
+    }
+    if spacing < 3.0 {
+        return Err(format!(
+            "the lines are only {spacing:.1} px apart, too close to locate; move the camera closer or use \
+             a coarser grid"
+        ));
+    }
+    Ok((lu, lv, spacing))
+}
+
+/// The intersection nearest the hint, refined, and its crossing contrast (which must show dark lines).
+fn seed_crossing(
+    d: &Gray,
+    s: &Gray,
+    hint: P,
+    per: &period::Period,
+    spacing: f64,
+    margin: f64,
+) -> Result<(P, f64), String> {
+    let (seed_px, _) = grow::peak_near(s, hint, 0.75 * spacing, margin)
+        .ok_or_else(|| "the origin hint is too close to the image edge".to_string())?;
+    let seed = refine::intersection(d, seed_px, per.u, per.v).ok_or_else(|| {
+        format!(
+            "the grid is too blurred: the lines near the origin ({:.0}, {:.0}) px cannot be located",
+            seed_px.0, seed_px.1
+        )
+    })?;
+    let c0 = grow::crossing_contrast(s, seed, per.u, per.v).unwrap_or(0.0);
+    if c0.is_nan() || c0 <= 0.0 {
+        return Err(
+            "the pattern near the origin has no line crossings darker than the cells; is it a grid of dark lines on light paper?"
+                .into(),
+        );
+    }
+    Ok((seed, c0))
+}
+
+/// Numbers of distinct lattice indices each way, when at least 3 lines each way and 9 intersections
+/// were found.
+fn check_lines(nodes: &HashMap<(i32, i32), grow::Node>) -> Result<(usize, usize), String> {
     let is: std::collections::BTreeSet<i32> = nodes.keys().map(|k| k.0).collect();
     let js: std::collections::BTreeSet<i32> = nodes.keys().map(|k| k.1).collect();
     if is.len() < 3 || js.len() < 3 || nodes.len() < 9 {
-        return Err(fail(format!(
+        return Err(format!(
             "too few lines: found crossings of only {} x {} lines ({} intersections); at least 3 lines \
              each way must be visible",
             is.len(),
             js.len(),
             nodes.len()
-        )));
+        ));
     }
-    // Axes: x along the lattice direction closest to the image horizontal, to the right; y up the image.
+    Ok((is.len(), js.len()))
+}
+
+/// Screen positions for the intersections, sorted from the top row down and left to right, and
+/// whether the lattice's first vector is the screen x axis. Axes: x along the lattice direction
+/// closest to the image horizontal, to the right; y up the image; origin at the intersection nearest
+/// the hint.
+fn index_pairs(
+    nodes: &HashMap<(i32, i32), grow::Node>,
+    per: &period::Period,
+    (lu, lv): (f64, f64),
+    hint: P,
+    pitch_mm: f64,
+) -> (Vec<PointPair>, bool) {
     let (u, v) = (per.u, per.v);
     let u_is_x = u.0.abs() / lu >= v.0.abs() / lv;
     let (ax, ay) = if u_is_x { (u, v) } else { (v, u) };
@@ -384,7 +313,7 @@ pub fn detect_gray(
         })
         .collect();
     keyed.sort_by_key(|(g, _)| (-g.1, g.0));
-    let pairs: Vec<PointPair> = keyed
+    let pairs = keyed
         .iter()
         .map(|&((gx, gy), p)| PointPair {
             pixel: PixelPoint { x: p.0, y: p.1 },
@@ -395,8 +324,16 @@ pub fn detect_gray(
             label: format!("grid ({gx}, {gy})"),
         })
         .collect();
-    // The intersections must sit on a square grid seen in perspective: keep the largest consistent set
-    // (a patch where the growth slipped a line is left out), refuse when that is not most of them.
+    (pairs, u_is_x)
+}
+
+/// The intersections must sit on a square grid seen in perspective: keep the largest consistent set
+/// (a patch where the growth slipped a line is left out), refuse when that is not most of them.
+fn keep_consistent(
+    pairs: Vec<PointPair>,
+    spacing: f64,
+    fail: &dyn Fn(String) -> CalibError,
+) -> Result<Vec<PointPair>, CalibError> {
     let opts = RobustOptions {
         threshold_px: 0.25 * spacing,
         ..RobustOptions::default()
@@ -410,15 +347,5 @@ pub fn detect_gray(
             pairs.len()
         )));
     }
-    let pairs: Vec<PointPair> = fit.used.iter().map(|&i| pairs[i].clone()).collect();
-    let (nx, ny) = if u_is_x {
-        (is.len(), js.len())
-    } else {
-        (js.len(), is.len())
-    };
-    Ok(GridDetection {
-        pairs,
-        lines: (nx, ny),
-        spacing_px: spacing,
-    })
+    Ok(fit.used.iter().map(|&i| pairs[i].clone()).collect())
 }

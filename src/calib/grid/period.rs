@@ -48,6 +48,30 @@ pub fn lattice(img: &Gray, cx: f64, cy: f64, n: usize) -> Option<Period> {
         .round()
         .clamp(0.0, (img.h.saturating_sub(n)) as f64) as usize;
     let (nw, nh) = (n.min(img.w), n.min(img.h));
+    let (data, m) = correlate(img, (x0, y0), (nw, nh), n);
+    let zero = data[0].re;
+    if zero.is_nan() || zero <= 0.0 {
+        return None;
+    }
+    let l = (n / 4) as i64;
+    let ac = normalised_lags(&data, m, zero, l, (nw, nh));
+    let peaks = local_maxima(&ac, l);
+    shortest_pair(&peaks)
+}
+
+/// Hann window weight of sample `k` of `len`.
+fn hann(k: usize, len: usize) -> f64 {
+    0.5 - 0.5 * (2.0 * std::f64::consts::PI * (k as f64 + 0.5) / len as f64).cos()
+}
+
+/// Circular autocorrelation of the mean-removed, windowed `nw` x `nh` patch at (x0, y0), zero padded
+/// to `m = 2n` square (against wrap-around): the values and `m`.
+fn correlate(
+    img: &Gray,
+    (x0, y0): (usize, usize),
+    (nw, nh): (usize, usize),
+    n: usize,
+) -> (Vec<Complex<f64>>, usize) {
     let mut mean = 0.0;
     for y in 0..nh {
         for x in 0..nw {
@@ -58,9 +82,6 @@ pub fn lattice(img: &Gray, cx: f64, cy: f64, n: usize) -> Option<Period> {
     // Hann window against edge effects, zero padding to twice the size against wrap-around.
     let m = 2 * n;
     let mut data = vec![Complex::new(0.0, 0.0); m * m];
-    let hann = |k: usize, len: usize| {
-        0.5 - 0.5 * (2.0 * std::f64::consts::PI * (k as f64 + 0.5) / len as f64).cos()
-    };
     for y in 0..nh {
         for x in 0..nw {
             let v = (img.at(x0 + x, y0 + y) as f64 - mean) * hann(x, nw) * hann(y, nh);
@@ -72,28 +93,35 @@ pub fn lattice(img: &Gray, cx: f64, cy: f64, n: usize) -> Option<Period> {
         *d = Complex::new(d.norm_sqr(), 0.0);
     }
     fft2(&mut data, m, true);
-    let zero = data[0].re;
-    if zero.is_nan() || zero <= 0.0 {
-        return None;
+    (data, m)
+}
+
+/// Share of the window's energy that overlaps itself shifted by `d` samples.
+fn overlap(d: i64, len: usize) -> f64 {
+    let mut s = 0.0;
+    let mut s0 = 0.0;
+    for k in 0..len {
+        let w = hann(k, len);
+        s0 += w * w;
+        let k2 = k as i64 + d;
+        if k2 >= 0 && (k2 as usize) < len {
+            s += w * hann(k2 as usize, len);
+        }
     }
-    // Lags -L..=L, stored in a (2L+1)^2 square; normalised by the window overlap so that a perfect
-    // repeat reads 1 at any lag.
-    let l = (n / 4) as i64;
+    s / s0
+}
+
+/// Lags -L..=L, stored in a (2L+1)^2 square; normalised by the window overlap so that a perfect
+/// repeat reads 1 at any lag.
+fn normalised_lags(
+    data: &[Complex<f64>],
+    m: usize,
+    zero: f64,
+    l: i64,
+    (nw, nh): (usize, usize),
+) -> Vec<f64> {
     let side = (2 * l + 1) as usize;
     let mut ac = vec![0.0; side * side];
-    let overlap = |d: i64, len: usize| {
-        let mut s = 0.0;
-        let mut s0 = 0.0;
-        for k in 0..len {
-            let w = hann(k, len);
-            s0 += w * w;
-            let k2 = k as i64 + d;
-            if k2 >= 0 && (k2 as usize) < len {
-                s += w * hann(k2 as usize, len);
-            }
-        }
-        s / s0
-    };
     let ox: Vec<f64> = (-l..=l).map(|d| overlap(d, nw)).collect();
     let oy: Vec<f64> = (-l..=l).map(|d| overlap(d, nh)).collect();
     for dy in -l..=l {
@@ -105,8 +133,14 @@ pub fn lattice(img: &Gray, cx: f64, cy: f64, n: usize) -> Option<Period> {
                 data[iy * m + ix].re / zero / norm.max(1e-3);
         }
     }
+    ac
+}
+
+/// Local maxima of the lags (stored as by [`normalised_lags`]) away from the central peak, each at
+/// its parabolic subpixel position: (dx, dy, value).
+fn local_maxima(ac: &[f64], l: i64) -> Vec<(f64, f64, f64)> {
+    let side = (2 * l + 1) as usize;
     let at = |dx: i64, dy: i64| ac[((dy + l) as usize) * side + (dx + l) as usize];
-    // Local maxima away from the central peak.
     let mut peaks: Vec<(f64, f64, f64)> = Vec::new();
     for dy in -l + 1..l {
         for dx in -l + 1..l {
@@ -137,6 +171,11 @@ pub fn lattice(img: &Gray, cx: f64, cy: f64, n: usize) -> Option<Period> {
             }
         }
     }
+    peaks
+}
+
+/// The lattice from the strong peaks: u the shortest, v the shortest more than 60 degrees off u's line.
+fn shortest_pair(peaks: &[(f64, f64, f64)]) -> Option<Period> {
     let top = peaks.iter().map(|p| p.2).fold(0.0, f64::max);
     if top <= 0.0 {
         return None;
