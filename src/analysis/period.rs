@@ -117,36 +117,71 @@ fn detrend(y: &mut [f64]) {
 
 /// The amplitude spectrum of `(t, y)` prepared as `opts` says, with its interpolated peak.
 pub fn spectrum(t: &[f64], y: &[f64], opts: &SpectrumOptions) -> Result<Spectrum, SpectrumError> {
-    let (t0, dt, mut v) = resample(t, y)?;
-    // Per-stretch detrending.
-    let mut cuts: Vec<usize> = opts
-        .breaks
+    let (t0, dt, v) = resample(t, y)?;
+    let cuts = break_indices(&opts.breaks, t0, dt, v.len());
+    let v = prepare(v, &cuts, opts.differentiate);
+    let n = v.len();
+    if n < 16 {
+        return Err(SpectrumError::TooShort(n));
+    }
+    let (power, nfft, longest) = stretch_power(&v, &cuts, opts.pad);
+    let n = longest;
+    let half = nfft / 2 + 1;
+    let df = 1.0 / (nfft as f64 * dt);
+    let freq_hz: Vec<f64> = (0..half).map(|k| k as f64 * df).collect();
+    let magnitude: Vec<f64> = power.iter().map(|p| p.sqrt()).collect();
+    // Skip the bins below 1.5 cycles per record (the window's leakage of what detrending left).
+    let kmin = ((1.5 / (n as f64 * dt)) / df).ceil() as usize;
+    let kmin = kmin.max(1);
+    let peak_bin = peak_bin(&magnitude, half, kmin)?;
+    Ok(Spectrum {
+        freq_hz,
+        magnitude,
+        peak_hz: peak_bin * df,
+        dt,
+    })
+}
+
+/// The resampled series' indices (first point at `t0`, spacing `dt`, `len` points) nearest to the
+/// `breaks`, inside the series, sorted and without repeats.
+fn break_indices(breaks: &[f64], t0: f64, dt: f64, len: usize) -> Vec<usize> {
+    let mut cuts: Vec<usize> = breaks
         .iter()
         .map(|b| ((b - t0) / dt).round())
-        .filter(|k| *k > 0.0 && *k < v.len() as f64)
+        .filter(|k| *k > 0.0 && *k < len as f64)
         .map(|k| k as usize)
         .collect();
     cuts.sort_unstable();
     cuts.dedup();
+    cuts
+}
+
+/// A straight line removed from each stretch between `cuts`; then, when `differentiate`, the first
+/// difference, zeroed across the cuts.
+fn prepare(mut v: Vec<f64>, cuts: &[usize], differentiate: bool) -> Vec<f64> {
     let mut lo = 0;
     for &c in cuts.iter().chain(std::iter::once(&v.len())) {
         detrend(&mut v[lo..c]);
         lo = c;
     }
-    if opts.differentiate {
+    if differentiate {
         let d: Vec<f64> = v.windows(2).map(|w| w[1] - w[0]).collect();
         v = d;
         // Zero the differences across the breaks, where the steps would sit.
-        for &c in &cuts {
+        for &c in cuts {
             if c >= 1 && c - 1 < v.len() {
                 v[c - 1] = 0.0;
             }
         }
     }
+    v
+}
+
+/// The FFT powers of the stretches of `v` between `cuts` (those over eight points), each with its own
+/// Hann window, added up; the FFT length is the next power of two at or above `pad` x the longest
+/// stretch. Returns the powers (bins 0 to Nyquist), the FFT length and the longest stretch's length.
+fn stretch_power(v: &[f64], cuts: &[usize], pad: usize) -> (Vec<f64>, usize, usize) {
     let n = v.len();
-    if n < 16 {
-        return Err(SpectrumError::TooShort(n));
-    }
     // Each stretch gets its own Hann window and FFT, and their powers add (phases restart at each
     // move, so one transform over all of them would split the peak into sidebands).
     let mut stretches: Vec<(usize, usize)> = Vec::new();
@@ -159,7 +194,7 @@ pub fn spectrum(t: &[f64], y: &[f64], opts: &SpectrumOptions) -> Result<Spectrum
         lo = c;
     }
     let longest = stretches.iter().map(|(a, b)| b - a).max().unwrap_or(n);
-    let nfft = (opts.pad.max(1) * longest).next_power_of_two();
+    let nfft = (pad.max(1) * longest).next_power_of_two();
     let mut power = vec![0.0; nfft / 2 + 1];
     let fft = FftPlanner::new().plan_fft_forward(nfft);
     for &(a, b) in &stretches {
@@ -175,14 +210,12 @@ pub fn spectrum(t: &[f64], y: &[f64], opts: &SpectrumOptions) -> Result<Spectrum
             *p += c.norm_sqr();
         }
     }
-    let n = longest;
-    let half = nfft / 2 + 1;
-    let df = 1.0 / (nfft as f64 * dt);
-    let freq_hz: Vec<f64> = (0..half).map(|k| k as f64 * df).collect();
-    let magnitude: Vec<f64> = power.iter().map(|p| p.sqrt()).collect();
-    // Skip the bins below 1.5 cycles per record (the window's leakage of what detrending left).
-    let kmin = ((1.5 / (n as f64 * dt)) / df).ceil() as usize;
-    let kmin = kmin.max(1);
+    (power, nfft, longest)
+}
+
+/// The highest peak of `magnitude[kmin..half - 1]`, as a fractional bin interpolated by a parabola
+/// through the logarithms of the three bins around it.
+fn peak_bin(magnitude: &[f64], half: usize, kmin: usize) -> Result<f64, SpectrumError> {
     if kmin + 2 >= half {
         return Err(SpectrumError::NoPeak);
     }
@@ -211,12 +244,7 @@ pub fn spectrum(t: &[f64], y: &[f64], opts: &SpectrumOptions) -> Result<Spectrum
     } else {
         0.0
     };
-    Ok(Spectrum {
-        freq_hz,
-        magnitude,
-        peak_hz: (kbest as f64 + delta) * df,
-        dt,
-    })
+    Ok(kbest as f64 + delta)
 }
 
 #[cfg(test)]

@@ -162,10 +162,33 @@ pub fn detect_moves(t: &[f64], y: &[f64], period: f64, gamma: f64) -> Detection 
     if n < 10 || period.is_nan() || period <= 0.0 {
         return empty;
     }
+    let dg = period / 100.0;
+    let eq = equilibrium_grid(t, y, period, gamma, dg);
+    let (grid_t, step) = step_detector(&eq, t[0], dg);
+    if step.is_empty() {
+        return empty;
+    }
+    let Some(noise) = detector_noise(&eq) else {
+        return empty;
+    };
+    let largest = step.iter().fold(0.0f64, |a, b| a.max(b.abs()));
+    let threshold = (8.0 * noise).max(0.25 * largest);
+    let moves = pick_moves(&grid_t, &step, threshold, dg, period);
+    Detection {
+        moves,
+        grid_t,
+        step,
+        noise,
+    }
+}
+
+/// The instantaneous equilibrium `theta + (theta'' + 2 gamma theta') / omega_0^2` on a grid `dg` s
+/// apart from `t[0]` to the last sample, from local quadratics over a fifth of a period (`None` where
+/// too few samples are near).
+fn equilibrium_grid(t: &[f64], y: &[f64], period: f64, gamma: f64, dg: f64) -> Vec<Option<f64>> {
+    let n = t.len().min(y.len());
     let w0 = 2.0 * std::f64::consts::PI / period;
     let h = period / 10.0;
-    let dg = period / 100.0;
-    // Instantaneous equilibrium on a grid.
     let (ta, tb) = (t[0], t[n - 1]);
     let m = ((tb - ta) / dg).floor() as usize + 1;
     let mut eq: Vec<Option<f64>> = Vec::with_capacity(m);
@@ -180,6 +203,14 @@ pub fn detect_moves(t: &[f64], y: &[f64], period: f64, gamma: f64) -> Detection 
                 .map(|(v, d1, d2)| v + (d2 + 2.0 * gamma * d1) / (w0 * w0)),
         );
     }
+    eq
+}
+
+/// The detector on the grid (first point at `ta`, spacing `dg`): the mean equilibrium over one
+/// period after each grid point minus that over one period before, where at least half of each
+/// window's points are present. Returns the detector's times and values.
+fn step_detector(eq: &[Option<f64>], ta: f64, dg: f64) -> (Vec<f64>, Vec<f64>) {
+    let m = eq.len();
     // Prefix sums over present grid points for window means.
     let mut cs = vec![0.0; m + 1];
     let mut cc = vec![0usize; m + 1];
@@ -200,23 +231,30 @@ pub fn detect_moves(t: &[f64], y: &[f64], period: f64, gamma: f64) -> Detection 
         grid_t.push(ta + k as f64 * dg);
         step.push(after - before);
     }
-    if step.is_empty() {
-        return empty;
-    }
-    // Noise of the detector: the equilibrium's scatter from differences two smoothing widths apart
-    // (the steps touch only a few of them), reduced by the about five independent values per window.
+    (grid_t, step)
+}
+
+/// Noise of the detector: the equilibrium's scatter from differences two smoothing widths apart
+/// (the steps touch only a few of them), reduced by the about five independent values per window.
+/// `None` when no such difference exists.
+fn detector_noise(eq: &[Option<f64>]) -> Option<f64> {
+    let m = eq.len();
     let lag = 20;
     let mut diffs: Vec<f64> = (lag..m)
         .filter_map(|k| Some((eq[k]? - eq[k - lag]?).abs()))
         .collect();
     if diffs.is_empty() {
-        return empty;
+        return None;
     }
     diffs.sort_by(f64::total_cmp);
     let sigma_eq = 1.4826 * diffs[diffs.len() / 2] / std::f64::consts::SQRT_2;
-    let noise = sigma_eq * (2.0f64 / 5.0).sqrt();
-    let largest = step.iter().fold(0.0f64, |a, b| a.max(b.abs()));
-    let threshold = (8.0 * noise).max(0.25 * largest);
+    Some(sigma_eq * (2.0f64 / 5.0).sqrt())
+}
+
+/// The moves: the extreme of each excursion of the detector above `threshold` (one sign at a time),
+/// interpolated by a parabola between grid points `dg` s apart; a move within `period` s of the one
+/// before is dropped.
+fn pick_moves(grid_t: &[f64], step: &[f64], threshold: f64, dg: f64, period: f64) -> Vec<f64> {
     let mut moves = Vec::new();
     let mut k = 0;
     while k < step.len() {
@@ -251,12 +289,7 @@ pub fn detect_moves(t: &[f64], y: &[f64], period: f64, gamma: f64) -> Detection 
             moves.push(tm);
         }
     }
-    Detection {
-        moves,
-        grid_t,
-        step,
-        noise,
-    }
+    moves
 }
 
 /// Refine a move's time near `guess` using the samples in `[lo, hi]` (kept within one period of it):

@@ -58,14 +58,27 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
     println!("tracking: {summary}");
 
     // 3. Analyze.
+    let results = args.out.join("analysis");
+    analyze_demo(data, &track_path, &results)?;
+    println!(
+        "wrote {}, {} and angle.csv, segments.csv, result.json, report.svg in {}",
+        calib_path.display(),
+        track_path.display(),
+        results.display()
+    );
+    Ok(())
+}
+
+/// Analyze the demo track with the demo apparatus and events, write the results into `results`,
+/// print the summary and compare G with the CODATA 2018 value the frames were simulated with.
+fn analyze_demo(data: &Path, track_path: &Path, results: &Path) -> anyhow::Result<()> {
     let setup = Setup::load(&data.join("setup.toml"))?;
     let events = read_events(&data.join("events.csv"))?;
-    let track = read_track(&track_path)?;
+    let track = read_track(track_path)?;
     let (samples, missing) =
         analysis::samples_from_track(&track, &spotlever::lever::Lever::from_setup(&setup))?;
     let a = analysis::analyze(&samples, &setup, Some(&events), &AnalysisOptions::default())?;
-    let results = args.out.join("analysis");
-    write_results(&results, &samples, &a)?;
+    write_results(results, &samples, &a)?;
     print!("{}", Summary::new(&a, missing, track.truncated_tail));
     let diff = a.g.value - G_CODATA_2018;
     let u_diff = (a.g.u * a.g.u + G_CODATA_2018_U * G_CODATA_2018_U).sqrt();
@@ -78,12 +91,6 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
         } else {
             "OUTSIDE twice the stated uncertainty"
         }
-    );
-    println!(
-        "wrote {}, {} and angle.csv, segments.csv, result.json, report.svg in {}",
-        calib_path.display(),
-        track_path.display(),
-        results.display()
     );
     Ok(())
 }

@@ -30,6 +30,9 @@ fn range(v: impl Iterator<Item = f64>) -> (f64, f64) {
     (lo - pad, hi + pad)
 }
 
+/// One panel of the report.
+type Area<'a> = DrawingArea<SVGBackend<'a>, plotters::coord::Shift>;
+
 /// Draw the report for `samples` analysed as `a`.
 pub fn write_report_svg(path: &Path, samples: &[Sample], a: &Analysis) -> Result<(), WriteError> {
     let e = draw_err(path);
@@ -43,12 +46,29 @@ pub fn write_report_svg(path: &Path, samples: &[Sample], a: &Analysis) -> Result
         .filter(|s| s.t.is_finite() && s.theta.is_finite())
         .collect();
     let (t0, t1) = range(good.iter().map(|s| s.t));
+    let residuals = draw_trace(&top, path, &good, a, (t0, t1))?;
+    draw_residuals(&mid, path, &residuals, (t0, t1))?;
+    draw_spectrum(&bottom, path, a)?;
+    root.present().map_err(&e)?;
+    Ok(())
+}
+
+/// The twist angle with each segment's fitted curve and equilibrium line and the moves, over
+/// `t0..t1` s. Returns the fit residuals `(t, urad)`.
+fn draw_trace(
+    area: &Area,
+    path: &Path,
+    good: &[&Sample],
+    a: &Analysis,
+    (t0, t1): (f64, f64),
+) -> Result<Vec<(f64, f64)>, WriteError> {
+    let e = draw_err(path);
     let (y0, y1) = range(good.iter().map(|s| s.theta * 1e3));
     let title = format!(
         "Twist angle, fits and equilibria  (G = {:.4e} ± {:.1e} m^3 kg^-1 s^-2)",
         a.g.value, a.g.u
     );
-    let mut chart = ChartBuilder::on(&top)
+    let mut chart = ChartBuilder::on(area)
         .caption(title, ("sans-serif", 18))
         .margin(12)
         .x_label_area_size(32)
@@ -108,9 +128,19 @@ pub fn write_report_svg(path: &Path, samples: &[Sample], a: &Analysis) -> Result
             ))
             .map_err(&e)?;
     }
+    Ok(residuals)
+}
 
+/// The fit residuals `(t, urad)` over `t0..t1` s.
+fn draw_residuals(
+    area: &Area,
+    path: &Path,
+    residuals: &[(f64, f64)],
+    (t0, t1): (f64, f64),
+) -> Result<(), WriteError> {
+    let e = draw_err(path);
     let (r0, r1) = range(residuals.iter().map(|r| r.1));
-    let mut chart = ChartBuilder::on(&mid)
+    let mut chart = ChartBuilder::on(area)
         .caption("Residuals of the segment fits", ("sans-serif", 16))
         .margin(12)
         .x_label_area_size(32)
@@ -130,7 +160,12 @@ pub fn write_report_svg(path: &Path, samples: &[Sample], a: &Analysis) -> Result
                 .map(|&(t, r)| Circle::new((t, r), 1, RGBColor(60, 60, 60).filled())),
         )
         .map_err(&e)?;
+    Ok(())
+}
 
+/// The amplitude spectrum up to five times its peak frequency, with the peak marked.
+fn draw_spectrum(area: &Area, path: &Path, a: &Analysis) -> Result<(), WriteError> {
+    let e = draw_err(path);
     let sp = &a.spectrum;
     let fmax = (5.0 * sp.peak_hz).min(*sp.freq_hz.last().unwrap_or(&1.0));
     let pts: Vec<(f64, f64)> = sp
@@ -141,7 +176,7 @@ pub fn write_report_svg(path: &Path, samples: &[Sample], a: &Analysis) -> Result
         .map(|(f, m)| (f * 1e3, *m))
         .collect();
     let (_, m1) = range(pts.iter().map(|p| p.1));
-    let mut chart = ChartBuilder::on(&bottom)
+    let mut chart = ChartBuilder::on(area)
         .caption(
             format!("Amplitude spectrum (peak at {:.2} s)", sp.period()),
             ("sans-serif", 16),
@@ -166,6 +201,5 @@ pub fn write_report_svg(path: &Path, samples: &[Sample], a: &Analysis) -> Result
             RGBColor(0, 150, 0),
         ))
         .map_err(&e)?;
-    root.present().map_err(&e)?;
     Ok(())
 }
