@@ -52,7 +52,7 @@ pub struct FfmpegSource {
 /// ends before its index says it does (when the index shows it).
 type KeyPlan = (Option<VecDeque<(i64, u64)>>, bool, Option<String>);
 
-fn plan(path: &Path, p: &Probe, opts: &OpenOptions) -> Result<KeyPlan, SourceError> {
+fn key_frame_plan(path: &Path, p: &Probe, opts: &OpenOptions) -> Result<KeyPlan, SourceError> {
     Ok(match opts.every {
         Some(e) => match plan_key_frames(path, p, e)? {
             Some(k) => {
@@ -149,7 +149,7 @@ impl FfmpegSource {
     pub fn open(path: &Path, opts: &OpenOptions) -> Result<Self, SourceError> {
         check_can_open(path)?;
         let p = probe(path)?;
-        let (plan, reorders, ends_early) = plan(path, &p, opts)?;
+        let (plan, reorders, ends_early) = key_frame_plan(path, &p, opts)?;
         let transfer = Transfer::choose(&p.pix_fmt, &p.color_range, opts.channel);
         // A rectangle that does not fit is not cut; the caller sees `info.crop == None`.
         let crop = opts.crop.filter(|r| r.fits_in(p.width, p.height));
