@@ -84,43 +84,14 @@ pub(crate) fn measure<P: Pixel>(
     let under = Under { plane: bg, screen };
     let noise = bg.noise;
 
-    // Observed peak above background around the seed.
-    let mut peak_obs = 0.0f64;
-    if let Some(core) = rect.around(sx as f64, sy as f64, 2) {
-        for y in core.y0..core.y1 {
-            for x in core.x0..core.x1 {
-                let v = img.get(x, y);
-                peak_obs = peak_obs.max(v as f64 - under.at(x, y));
-            }
-        }
-    }
+    let peak_obs = observed_peak(img, rect, (sx, sy), &under);
     if peak_obs <= 0.0 {
         return None;
     }
     // Centroid of the light above a threshold, recentred a few times.
     let threshold = (3.0 * noise).max(0.2 * peak_obs);
-    let mut centre = PixelPoint {
-        x: sx as f64,
-        y: sy as f64,
-    };
-    let mut half_max_px = 0usize;
-    for _ in 0..4 {
-        let c = weighted_centroid(
-            img,
-            rect,
-            centre,
-            reach - 3,
-            &under,
-            threshold,
-            0.5 * peak_obs,
-        )?;
-        let moved = (c.x - centre.x).abs().max((c.y - centre.y).abs());
-        centre = PixelPoint { x: c.x, y: c.y };
-        half_max_px = c.above_half;
-        if moved < 0.01 {
-            break;
-        }
-    }
+    let (centre, half_max_px) =
+        recentre(img, rect, (sx, sy), reach - 3, &under, threshold, peak_obs)?;
     // Width from the area above half the observed peak: pi r^2 with r = sigma sqrt(2 ln 2).
     let sigma0 = ((half_max_px.max(1) as f64 / std::f64::consts::PI).sqrt()
         / (2.0 * std::f64::consts::LN_2).sqrt())
@@ -131,6 +102,134 @@ pub(crate) fn measure<P: Pixel>(
     // r^2 exp(-r^2 / sigma^2)), so the window stops there.
     let fit_half = ((3.0 * sigma0).ceil() as usize).clamp(4, reach);
     let win = rect.around(centre.x, centre.y, fit_half)?;
+    let w = window_samples(img, &win, &under, bg.level);
+    let amp0 = if w.saturated_px > 0 {
+        1.5 * peak_obs
+    } else {
+        peak_obs
+    };
+    let start = Gaussian {
+        x0: centre.x,
+        y0: centre.y,
+        amp: amp0,
+        offset: bg.level,
+        sigma: sigma0,
+    };
+    let (position, amp, sigma) = fit_or_centroid(&w.samples, start, &win, config, peak_obs);
+    let fix = SpotFix {
+        position: Some(position),
+        peak: amp,
+        integral: w.sum_above,
+        // RMS radius of an isotropic Gaussian: sqrt(<x^2 + y^2>) = sqrt(2) sigma.
+        width_px: std::f64::consts::SQRT_2 * sigma,
+        saturated_px: w.saturated_px,
+        snr: amp / noise,
+        status: if w.saturated_px > 0 {
+            SpotStatus::Saturated
+        } else {
+            SpotStatus::Ok
+        },
+    };
+    Some(Measurement {
+        fix,
+        background: bg,
+    })
+}
+
+/// Observed peak above the background within 2 px of the seed (0 when none is above it).
+#[inline]
+fn observed_peak<P: Pixel>(
+    img: &Img<P>,
+    rect: &Rect,
+    (sx, sy): (usize, usize),
+    under: &Under,
+) -> f64 {
+    let mut peak_obs = 0.0f64;
+    if let Some(core) = rect.around(sx as f64, sy as f64, 2) {
+        for y in core.y0..core.y1 {
+            for x in core.x0..core.x1 {
+                let v = img.get(x, y);
+                peak_obs = peak_obs.max(v as f64 - under.at(x, y));
+            }
+        }
+    }
+    peak_obs
+}
+
+/// The thresholded centroid within `half` px, recentred up to four times (until it moves less than
+/// 0.01 px), and the number of pixels above half the observed peak around it.
+#[inline]
+fn recentre<P: Pixel>(
+    img: &Img<P>,
+    rect: &Rect,
+    (sx, sy): (usize, usize),
+    half: usize,
+    under: &Under,
+    threshold: f64,
+    peak_obs: f64,
+) -> Option<(PixelPoint, usize)> {
+    let mut centre = PixelPoint {
+        x: sx as f64,
+        y: sy as f64,
+    };
+    let mut half_max_px = 0usize;
+    for _ in 0..4 {
+        let c = weighted_centroid(img, rect, centre, half, under, threshold, 0.5 * peak_obs)?;
+        let moved = (c.x - centre.x).abs().max((c.y - centre.y).abs());
+        centre = PixelPoint { x: c.x, y: c.y };
+        half_max_px = c.above_half;
+        if moved < 0.01 {
+            break;
+        }
+    }
+    Some((centre, half_max_px))
+}
+
+/// The fitted Gaussian's centre, amplitude and width when fitting is on and the fit stays near the
+/// centroid (`start`'s centre) with a plausible width; else the centroid, the observed peak and the
+/// width from the area above half of it (`start`'s sigma).
+#[inline]
+fn fit_or_centroid(
+    samples: &[Sample],
+    start: Gaussian,
+    win: &Rect,
+    config: &SpotConfig,
+    peak_obs: f64,
+) -> (PixelPoint, f64, f64) {
+    let (centre, sigma0) = (
+        PixelPoint {
+            x: start.x0,
+            y: start.y0,
+        },
+        start.sigma,
+    );
+    let fitted = if config.fit {
+        fit_gaussian(samples, start).filter(|g| {
+            (g.x0 - centre.x).abs().max((g.y0 - centre.y).abs()) < sigma0.max(1.5)
+                && g.sigma > 0.3
+                && g.sigma < 2.0 * config.max_sigma_px
+                && win.contains(g.x0, g.y0)
+        })
+    } else {
+        None
+    };
+    match fitted {
+        Some(g) => (PixelPoint { x: g.x0, y: g.y0 }, g.amp, g.sigma),
+        None => (centre, peak_obs, sigma0),
+    }
+}
+
+/// What the fit window holds: the unclipped pixels as fit samples (the background's slopes and the
+/// learned screen taken away, its level kept), the count of pixels at white, and the summed light
+/// above the background.
+struct Window {
+    samples: Vec<Sample>,
+    saturated_px: u32,
+    sum_above: f64,
+}
+
+#[inline]
+fn window_samples<P: Pixel>(img: &Img<P>, win: &Rect, under: &Under, level: f64) -> Window {
     let mut samples = Vec::with_capacity(win.width() * win.height());
     let mut saturated_px = 0u32;
     let mut sum_above = 0.0;
@@ -152,55 +251,16 @@ pub(crate) fn measure<P: Pixel>(
                 samples.push(Sample {
                     x,
                     y: yf,
-                    v: v as f64 - (b - bg.level),
+                    v: v as f64 - (b - level),
                 });
             }
         }
     }
-    let amp0 = if saturated_px > 0 {
-        1.5 * peak_obs
-    } else {
-        peak_obs
-    };
-    let start = Gaussian {
-        x0: centre.x,
-        y0: centre.y,
-        amp: amp0,
-        offset: bg.level,
-        sigma: sigma0,
-    };
-    let fitted = if config.fit {
-        fit_gaussian(&samples, start).filter(|g| {
-            (g.x0 - centre.x).abs().max((g.y0 - centre.y).abs()) < sigma0.max(1.5)
-                && g.sigma > 0.3
-                && g.sigma < 2.0 * config.max_sigma_px
-                && win.contains(g.x0, g.y0)
-        })
-    } else {
-        None
-    };
-    let (position, amp, sigma) = match fitted {
-        Some(g) => (PixelPoint { x: g.x0, y: g.y0 }, g.amp, g.sigma),
-        None => (centre, peak_obs, sigma0),
-    };
-    let fix = SpotFix {
-        position: Some(position),
-        peak: amp,
-        integral: sum_above,
-        // RMS radius of an isotropic Gaussian: sqrt(<x^2 + y^2>) = sqrt(2) sigma.
-        width_px: std::f64::consts::SQRT_2 * sigma,
+    Window {
+        samples,
         saturated_px,
-        snr: amp / noise,
-        status: if saturated_px > 0 {
-            SpotStatus::Saturated
-        } else {
-            SpotStatus::Ok
-        },
-    };
-    Some(Measurement {
-        fix,
-        background: bg,
-    })
+        sum_above,
+    }
 }
 
 #[cfg(test)]

@@ -48,7 +48,34 @@ pub(crate) fn coarse_search<P: Pixel>(img: &Img<P>, rect: &Rect, max_sigma_px: f
     if bw < 3 || bh < 3 {
         return empty;
     }
-    // Block sums, row by row.
+    let sums = block_sums(img, rect, bw, bh);
+    let sat = summed_area(&sums, bw, bh);
+    let (ri, ro) = ring_blocks(max_sigma_px);
+    let contrast = block_contrast(&sums, &sat, (bw, bh), (ri, ro));
+    // Robust spread of the contrast from a subsample.
+    let step = (contrast.len() / 20_000).max(1);
+    let mut sample: Vec<f64> = contrast.iter().step_by(step).map(|&c| c as f64).collect();
+    let noise = median_and_sigma(&mut sample).map(|(_, s)| s).unwrap_or(0.0);
+
+    let to_candidate = |(i, c): (usize, f32)| Candidate {
+        x: rect.x0 + (i % bw) * BLOCK + BLOCK / 2,
+        y: rect.y0 + (i / bw) * BLOCK + BLOCK / 2,
+        contrast: c as f64,
+    };
+    let Some(first) = arg_max(&contrast, bw, None, 0) else {
+        return empty;
+    };
+    let second = arg_max(&contrast, bw, Some((first.0 % bw, first.0 / bw)), 2 * ri);
+    Search {
+        best: Some(to_candidate(first)),
+        second: second.map(to_candidate),
+        noise,
+    }
+}
+
+/// Sums of the `bw` x `bh` blocks of `rect`, row by row.
+#[inline]
+fn block_sums<P: Pixel>(img: &Img<P>, rect: &Rect, bw: usize, bh: usize) -> Vec<u32> {
     let mut sums = vec![0u32; bw * bh];
     for by in 0..bh {
         let acc = &mut sums[by * bw..(by + 1) * bw];
@@ -60,7 +87,12 @@ pub(crate) fn coarse_search<P: Pixel>(img: &Img<P>, rect: &Rect, max_sigma_px: f
             }
         }
     }
-    // Summed-area table of the block sums, (bw + 1) x (bh + 1).
+    sums
+}
+
+/// Summed-area table of the block sums, (bw + 1) x (bh + 1).
+#[inline]
+fn summed_area(sums: &[u32], bw: usize, bh: usize) -> Vec<u64> {
     let sw = bw + 1;
     let mut sat = vec![0u64; sw * (bh + 1)];
     for by in 0..bh {
@@ -70,12 +102,24 @@ pub(crate) fn coarse_search<P: Pixel>(img: &Img<P>, rect: &Rect, max_sigma_px: f
             sat[(by + 1) * sw + bx + 1] = sat[by * sw + bx + 1] + run;
         }
     }
+    sat
+}
+
+/// Each block's mean minus the mean of the ring of blocks between radii `ri` and `ro` around it
+/// (cut to the grid; the inner square's mean where nothing of the ring is left), DN.
+#[inline]
+fn block_contrast(
+    sums: &[u32],
+    sat: &[u64],
+    (bw, bh): (usize, usize),
+    (ri, ro): (usize, usize),
+) -> Vec<f32> {
+    let sw = bw + 1;
     let box_sum = |x0: usize, y0: usize, x1: usize, y1: usize| -> (u64, usize) {
         // Inclusive-exclusive block ranges [x0, x1) x [y0, y1).
         let s = sat[y1 * sw + x1] + sat[y0 * sw + x0] - sat[y0 * sw + x1] - sat[y1 * sw + x0];
         (s, (x1 - x0) * (y1 - y0))
     };
-    let (ri, ro) = ring_blocks(max_sigma_px);
     let per_block = (BLOCK * BLOCK) as f64;
     let mut contrast = vec![0.0f32; bw * bh];
     for by in 0..bh {
@@ -95,38 +139,28 @@ pub(crate) fn coarse_search<P: Pixel>(img: &Img<P>, rect: &Rect, max_sigma_px: f
             contrast[by * bw + bx] = (sums[by * bw + bx] as f64 / per_block - ring) as f32;
         }
     }
-    // Robust spread of the contrast from a subsample.
-    let step = (contrast.len() / 20_000).max(1);
-    let mut sample: Vec<f64> = contrast.iter().step_by(step).map(|&c| c as f64).collect();
-    let noise = median_and_sigma(&mut sample).map(|(_, s)| s).unwrap_or(0.0);
+    contrast
+}
 
-    let arg_max = |skip: Option<(usize, usize)>, excl: usize| -> Option<(usize, f32)> {
-        let mut best: Option<(usize, f32)> = None;
-        for (i, &c) in contrast.iter().enumerate() {
-            if let Some((sx, sy)) = skip {
-                let (bx, by) = (i % bw, i / bw);
-                if bx.abs_diff(sx) <= excl && by.abs_diff(sy) <= excl {
-                    continue;
-                }
-            }
-            if best.is_none_or(|(_, b)| c > b) {
-                best = Some((i, c));
+/// The first largest contrast (index, value), skipping blocks within `excl` blocks of `skip`.
+#[inline]
+fn arg_max(
+    contrast: &[f32],
+    bw: usize,
+    skip: Option<(usize, usize)>,
+    excl: usize,
+) -> Option<(usize, f32)> {
+    let mut best: Option<(usize, f32)> = None;
+    for (i, &c) in contrast.iter().enumerate() {
+        if let Some((sx, sy)) = skip {
+            let (bx, by) = (i % bw, i / bw);
+            if bx.abs_diff(sx) <= excl && by.abs_diff(sy) <= excl {
+                continue;
             }
         }
-        best
-    };
-    let to_candidate = |(i, c): (usize, f32)| Candidate {
-        x: rect.x0 + (i % bw) * BLOCK + BLOCK / 2,
-        y: rect.y0 + (i / bw) * BLOCK + BLOCK / 2,
-        contrast: c as f64,
-    };
-    let Some(first) = arg_max(None, 0) else {
-        return empty;
-    };
-    let second = arg_max(Some((first.0 % bw, first.0 / bw)), 2 * ri);
-    Search {
-        best: Some(to_candidate(first)),
-        second: second.map(to_candidate),
-        noise,
+        if best.is_none_or(|(_, b)| c > b) {
+            best = Some((i, c));
+        }
     }
+    best
 }
