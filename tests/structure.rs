@@ -86,8 +86,8 @@ fn code_of(line: &str) -> String {
             '\'' => {
                 // A char literal such as '{' or '\n'; a lifetime has no closing quote close by.
                 let rest: String = chars.clone().take(3).collect();
-                if rest.starts_with('\\') {
-                    if let Some(end) = rest[1..].find('\'') {
+                if let Some(escaped) = rest.strip_prefix('\\') {
+                    if let Some(end) = escaped.find('\'') {
                         for _ in 0..end + 2 {
                             chars.next();
                         }
