@@ -1,0 +1,795 @@
+//! The spot finder judged on frames from an independent model of a real camera and screen
+//! (`tests/camera_model/`): perspective, lens distortion, a printed ruling, a clipped, speckled,
+//! elliptical spot with a halo and a window ghost, room light that steps, ramps and is shadowed, a
+//! blocked beam, motion blur, sensor noise, 8-bit clipping and JPEG.
+//!
+//! The model's own checks run as normal tests. The finder's figures on 1280 x 720 sequences come
+//! from `cargo test --test spot_camera_model -- --ignored --nocapture`, which prints a table of them
+//! and checks them against the finder's targets: RMS error at most 0.8 times that of a plain
+//! thresholded centroid on the same frames, a mean error under 0.1 px after a step of the room
+//! light, no blocked-beam frame reported as a found spot, and no frame where the ghost is taken for
+//! the spot.
+
+mod camera_model;
+
+use camera_model::beam::speckle_field;
+use camera_model::camera::Camera;
+use camera_model::motion::Swing;
+use camera_model::screen::{Lines, RoomLight, Ruling, Shadow};
+use camera_model::sensor::{jpeg_round_trip, Sensor};
+use camera_model::{Renderer, Scene, Truth};
+use rand::rngs::SmallRng;
+use rand::SeedableRng;
+use spotlever::frame::Plane;
+use spotlever::spot::{SpotConfig, SpotStatus, Tracker};
+use std::sync::OnceLock;
+
+// ---------------------------------------------------------------------------------------------
+// The model's own checks.
+
+fn turned_camera(tilt_u: f64, k1: f64) -> Camera {
+    Camera {
+        tilt_u_deg: tilt_u,
+        tilt_v_deg: 0.0,
+        roll_deg: 0.0,
+        k1,
+        ..Camera::default()
+    }
+}
+
+#[test]
+fn a_point_projected_and_back_projected_returns() {
+    let pose = Camera {
+        tilt_u_deg: 40.0,
+        tilt_v_deg: 7.0,
+        roll_deg: 3.0,
+        k1: -0.05,
+        ..Camera::default()
+    }
+    .pose();
+    let mut worst_mm: f64 = 0.0;
+    let mut worst_px: f64 = 0.0;
+    for y in (0..720).step_by(60) {
+        for x in (0..1280).step_by(80) {
+            let (u, v) = pose.back_project(x as f64, y as f64).unwrap();
+            let (px, py) = pose.project(u, v).unwrap();
+            worst_px = worst_px.max((px - x as f64).hypot(py - y as f64));
+            let (u2, v2) = pose.back_project(px, py).unwrap();
+            worst_mm = worst_mm.max((u2 - u).hypot(v2 - v));
+        }
+    }
+    // Round-off of double precision over a 30-step fixed point: far below 1e-6.
+    assert!(worst_px < 1e-6, "pixel round trip off by {worst_px:e} px");
+    assert!(worst_mm < 1e-6, "screen round trip off by {worst_mm:e} mm");
+}
+
+#[test]
+fn perspective_foreshortens_by_the_cosine_of_the_turn() {
+    for a_deg in [0.0f64, 20.0, 40.0] {
+        let cam = turned_camera(a_deg, 0.0);
+        let pose = cam.pose();
+        let (f, d, a) = (cam.focal_px, cam.distance_mm, a_deg.to_radians());
+        let (cx, cy) = pose.project(0.0, 0.0).unwrap();
+        assert!((cx - 640.0).abs() < 1e-9 && (cy - 360.0).abs() < 1e-9);
+        // Exact for a pure turn (camera module docs): x = f cos(a) du / (D - du sin(a)).
+        for du in [-50.0f64, 50.0] {
+            let (x, y) = pose.project(du, 0.0).unwrap();
+            let want = f * a.cos() * du / (d - du * a.sin());
+            assert!(
+                ((x - cx) - want).abs() < 1e-9 * want.abs() + 1e-9,
+                "{a_deg} deg, du {du}: {} px, formula {want} px",
+                x - cx
+            );
+            assert!((y - cy).abs() < 1e-9);
+        }
+        // Local scales at the aim point: f cos(a) / D along u, f / D along v.
+        let h = 1e-3;
+        let su = (pose.project(h, 0.0).unwrap().0 - pose.project(-h, 0.0).unwrap().0) / (2.0 * h);
+        let sv = (pose.project(0.0, h).unwrap().1 - pose.project(0.0, -h).unwrap().1) / (2.0 * h);
+        assert!(
+            (su / (f * a.cos() / d) - 1.0).abs() < 1e-6,
+            "{a_deg} deg: {su} px/mm"
+        );
+        assert!((sv / (f / d) - 1.0).abs() < 1e-6, "{a_deg} deg: {sv} px/mm");
+        assert!((su / sv - a.cos()).abs() < 1e-6);
+    }
+}
+
+#[test]
+fn barrel_distortion_pulls_the_corners_in() {
+    let (straight, barrel) = (
+        turned_camera(0.0, 0.0).pose(),
+        turned_camera(0.0, -0.05).pose(),
+    );
+    let (u, v) = straight.back_project(1200.0, 680.0).unwrap();
+    let (x, y) = barrel.project(u, v).unwrap();
+    // r_d = r_n (1 + k1 r_n^2): the corner moves towards the centre by k1 r_n^2 of its radius.
+    let (xn, yn) = ((1200.0 - 640.0) / 1400.0, (680.0 - 360.0) / 1400.0);
+    let k = 1.0 - 0.05 * (xn * xn + yn * yn);
+    assert!((x - (640.0 + 560.0 * k)).abs() < 1e-6 && (y - (360.0 + 320.0 * k)).abs() < 1e-6);
+}
+
+#[test]
+fn speckle_is_fully_developed() {
+    let mut rng = SmallRng::seed_from_u64(11);
+    let (w, h, sk) = (256, 256, 1.4);
+    let field = speckle_field(w, h, sk, &mut rng);
+    let n = field.len() as f64;
+    let mean = field.iter().sum::<f64>() / n;
+    let var = field.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / n;
+    let contrast = var.sqrt() / mean;
+    let above = field.iter().filter(|&&x| x > 2.0 * mean).count() as f64 / n;
+    // Independent grains: the area over the intensity correlation's integral 2 pi sk^2, about
+    // 5300 here. Standard errors then: mean 1/sqrt(N) = 0.014; contrast sqrt(2/N) = 0.019 for an
+    // exponential (fourth moment 24); P(I > 2<I>) = exp(-2) with sqrt(p(1-p)/N) = 0.0047. The
+    // allowances are four of them.
+    let grains = n / (2.0 * std::f64::consts::PI * sk * sk);
+    eprintln!("speckle: mean {mean:.4}, contrast {contrast:.4}, P(>2 mean) {above:.4}, ~{grains:.0} grains");
+    assert!((mean - 1.0).abs() < 4.0 / grains.sqrt(), "mean {mean}");
+    assert!(
+        (contrast - 1.0).abs() < 4.0 * (2.0 / grains).sqrt(),
+        "contrast {contrast}"
+    );
+    let p = (-2.0f64).exp();
+    assert!(
+        (above - p).abs() < 4.0 * (p * (1.0 - p) / grains).sqrt(),
+        "P {above}"
+    );
+}
+
+#[test]
+fn the_ruling_absorbs_as_printed() {
+    let r = Ruling::default();
+    // Point values: on a minor line only, on a major line (minor printed under it), between lines.
+    assert!((r.transmission(3.0, 3.5, 0.0, 0.0) - 0.4).abs() < 1e-12);
+    assert!((r.transmission(10.0, 3.5, 0.0, 0.0) - 0.4 * 0.15).abs() < 1e-12);
+    assert!((r.transmission(3.5, 3.5, 0.0, 0.0) - 1.0).abs() < 1e-12);
+    assert!((r.transmission(3.0, 3.0, 0.0, 0.0) - 0.16).abs() < 1e-12);
+    // Over a whole pitch the covered fraction is w / p, wherever the pitch starts.
+    for c in [0.0, 0.37, -2.81] {
+        assert!((r.minor.fraction(c, 1.0) - 0.2).abs() < 1e-12);
+        assert!((r.major.fraction(c, 10.0) - 0.04).abs() < 1e-12);
+    }
+    // Seen through the camera square on: the image mean over a region of about 71 mm of a 1 mm
+    // ruling (lines one way) is 1 - a w / p of the plain paper's, to within a part period
+    // (a w / 71 = 0.0017).
+    let lines = Ruling {
+        minor: Lines {
+            pitch_mm: 1.0,
+            width_mm: 0.3,
+            absorption: 0.7,
+        },
+        major: Ruling::none().major,
+        grid: false,
+    };
+    let mean_of = |ruling: Ruling| {
+        let scene = quiet_scene(turned_camera(0.0, 0.0), ruling, 3000.0, 0.0);
+        let (e, _) = Renderer::new(scene).expected(0);
+        let mut s = 0.0;
+        for y in 260..460 {
+            for x in 540..740 {
+                s += e[y * 1280 + x];
+            }
+        }
+        s
+    };
+    let ratio = mean_of(lines) / mean_of(Ruling::none());
+    assert!((ratio - (1.0 - 0.7 * 0.3)).abs() < 0.0017, "ratio {ratio}");
+}
+
+/// A noise-free scene: no ghost, no speckle, flat room light at `room_e`, spot peak `peak_e`.
+fn quiet_scene(camera: Camera, ruling: Ruling, room_e: f64, peak_e: f64) -> Scene {
+    let mut s = Scene {
+        camera,
+        ruling,
+        light: RoomLight {
+            level_e: room_e,
+            lamp_mm: (0.0, 0.0, 1e7),
+            ..RoomLight::default()
+        },
+        sensor: Sensor {
+            noise: false,
+            ..Sensor::default()
+        },
+        ghost: false,
+        ..Scene::default()
+    };
+    s.beam.peak_e = peak_e;
+    s.beam.speckle_px = 0.0;
+    s
+}
+
+#[test]
+fn the_sensor_clips_at_its_full_well_and_at_255() {
+    let mut rng = SmallRng::seed_from_u64(3);
+    let quiet = Sensor {
+        noise: false,
+        ..Sensor::default()
+    };
+    assert_eq!(quiet.read(0.0, &mut rng), 4);
+    assert_eq!(quiet.read(3000.0, &mut rng), 132); // 4 + 127.5, rounded away from zero
+    assert_eq!(quiet.read(6000.0, &mut rng), 255); // 259 clipped by the converter
+    assert_eq!(quiet.read(60000.0, &mut rng), 255);
+    let high_gain = Sensor {
+        gain: 2.0,
+        ..quiet.clone()
+    };
+    assert_eq!(high_gain.read(1500.0, &mut rng), 132);
+    assert_eq!(high_gain.read(5000.0, &mut rng), 255);
+    // Shot and read noise: var(DN) = g^2 (n + read^2) + 1/12 (quantisation), g = 255 / 6000.
+    let noisy = Sensor::default();
+    let n = 40000;
+    let v: Vec<f64> = (0..n)
+        .map(|_| noisy.read(1000.0, &mut rng) as f64)
+        .collect();
+    let mean = v.iter().sum::<f64>() / n as f64;
+    let var = v.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (n - 1) as f64;
+    let g = noisy.dn_per_e();
+    let want = g * g * (1000.0 + 144.0) + 1.0 / 12.0;
+    // Relative standard error of a sample variance sqrt(2 / n) = 0.7 %; four of them.
+    assert!(
+        (var / want - 1.0).abs() < 4.0 * (2.0 / n as f64).sqrt(),
+        "var {var}, want {want}"
+    );
+    assert!((mean - (4.0 + g * 1000.0)).abs() < 0.05, "mean {mean}");
+    // A rendered spot whose peak is 1.6 full wells has a clipped core, and nothing beyond 255.
+    // The converter reaches 254.5 DN at (254.5 - 4) / g electrons, so the core
+    // a^2 / s_a^2 + b^2 / s_b^2 < 2 ln(peak / that) clips: an ellipse of pi s_a s_b 2 ln(..) mm^2,
+    // |det J| px^2 per mm^2 in the image. Counting whole pixels misses up to about half the
+    // perimeter's worth of pixels either way.
+    let scene = quiet_scene(Camera::default(), Ruling::none(), 0.0, 9600.0);
+    let r = Renderer::new(scene);
+    let shot = r.frame(0);
+    let clipped = shot.pixels.iter().filter(|&&p| p == 255).count() as f64;
+    let (u, v) = shot.truth.centre_mm;
+    let det = jacobian_det(&r.pose, u, v);
+    let (sa, sb) = r.scene.beam.sigma_mm;
+    let level = (254.5 - 4.0) / g;
+    let area = std::f64::consts::PI * sa * sb * 2.0 * (9600.0 / level).ln() * det;
+    let perimeter = 2.0 * (std::f64::consts::PI * area).sqrt();
+    assert!(
+        (clipped - area).abs() <= 0.5 * perimeter + 2.0,
+        "{clipped} clipped pixels, expected about {area:.1}"
+    );
+    assert!(shot.pixels.iter().all(|&p| p >= 4));
+}
+
+/// |det| of the projection's Jacobian at (u, v), px^2 per mm^2.
+fn jacobian_det(pose: &camera_model::camera::Pose, u: f64, v: f64) -> f64 {
+    let h = 1e-3;
+    let p = |a: f64, b: f64| pose.project(a, b).unwrap();
+    let (xu, yu) = {
+        let (a, b) = (p(u + h, v), p(u - h, v));
+        ((a.0 - b.0) / (2.0 * h), (a.1 - b.1) / (2.0 * h))
+    };
+    let (xv, yv) = {
+        let (a, b) = (p(u, v + h), p(u, v - h));
+        ((a.0 - b.0) / (2.0 * h), (a.1 - b.1) / (2.0 * h))
+    };
+    (xu * yv - xv * yu).abs()
+}
+
+#[test]
+fn the_swing_carries_its_state_over_the_steps() {
+    let s = Swing::default();
+    for &(ts, _) in &s.steps {
+        let (a, b) = (s.state(ts - 1e-7), s.state(ts + 1e-7));
+        assert!(
+            (a.0 - b.0).abs() < 1e-5 && (a.1 - b.1).abs() < 1e-5,
+            "{a:?} {b:?}"
+        );
+    }
+    // Zero crossings of x - e in the first segment are half a period apart.
+    let mut crossings = Vec::new();
+    let dt = 1e-3;
+    let mut t = 0.0;
+    while t < 129.0 {
+        let (a, b) = (s.position(t), s.position(t + dt));
+        if a.signum() != b.signum() {
+            crossings.push(t + dt * a / (a - b));
+        }
+        t += dt;
+    }
+    assert!(crossings.len() >= 3);
+    for w in crossings.windows(2) {
+        assert!(
+            (w[1] - w[0] - s.period_s / 2.0).abs() < 1e-3,
+            "{crossings:?}"
+        );
+    }
+    // Amplitude decays by exp(-T/2 / decay) per half period.
+    let long = Swing {
+        steps: Vec::new(),
+        ..s.clone()
+    };
+    let (a0, a1) = (long.position(0.0), long.position(long.period_s));
+    assert!((a1 / a0 - (-long.period_s / long.decay_s).exp()).abs() < 1e-3);
+}
+
+/// Light-weighted mean and second moments (x, y, xx) of `e` over a square around `c`.
+fn moments(e: &[f64], w: usize, c: (f64, f64), r: usize) -> (f64, f64, f64) {
+    let (mut s, mut sx, mut sy, mut sxx) = (0.0, 0.0, 0.0, 0.0);
+    let (x0, y0) = (c.0.round() as usize - r, c.1.round() as usize - r);
+    for y in y0..=y0 + 2 * r {
+        for x in x0..=x0 + 2 * r {
+            let v = e[y * w + x];
+            s += v;
+            sx += v * x as f64;
+            sy += v * y as f64;
+            sxx += v * (x as f64).powi(2);
+        }
+    }
+    let (mx, my) = (sx / s, sy / s);
+    (mx, my, sxx / s - mx * mx)
+}
+
+fn laser_only(tilt_u: f64) -> Scene {
+    let mut s = quiet_scene(turned_camera(tilt_u, -0.05), Ruling::none(), 0.0, 4000.0);
+    s.beam.halo_fraction = 0.0;
+    s
+}
+
+/// The image-plane centroid of the renderer's spot at screen centre `c`, by integrating on the
+/// screen: the image of radiance L is L(u(x)), so its moments are
+/// sum over screen points of x(u) L(u) |det J(u)| over sum of L |det J| (a change of variables).
+fn continuous_centroid(r: &Renderer, c: (f64, f64)) -> (f64, f64) {
+    let b = &r.scene.beam;
+    let blob = camera_model::beam::Blob {
+        centre: c,
+        sigma: b.sigma_mm,
+        angle: b.angle_deg.to_radians(),
+        peak: 1.0,
+    };
+    let (step, reach) = (0.05, blob.reach());
+    let n = (reach / step).ceil() as i32;
+    let (mut s, mut sx, mut sy) = (0.0, 0.0, 0.0);
+    for i in -n..=n {
+        for j in -n..=n {
+            let (u, v) = (c.0 + i as f64 * step, c.1 + j as f64 * step);
+            let w = blob.at(u, v) * jacobian_det(&r.pose, u, v);
+            let (x, y) = r.pose.project(u, v).unwrap();
+            s += w;
+            sx += w * x;
+            sy += w * y;
+        }
+    }
+    (sx / s, sy / s)
+}
+
+#[test]
+fn the_truth_is_the_centre_of_the_light() {
+    for tilt in [0.0, 40.0] {
+        let r = Renderer::new(laser_only(tilt));
+        for i in [0, 40] {
+            let (e, truth) = r.expected(i);
+            let (mx, my, _) = moments(&e, 1280, truth.centre_px, 25);
+            let (cx, cy) = continuous_centroid(&r, truth.centre_mm);
+            // Pixel integration (2 x 2 points per pixel of a sigma ~4 px Gaussian) and the cut at
+            // 4.3 sigma move the centroid by well under 0.005 px.
+            let d = (mx - cx).hypot(my - cy);
+            assert!(
+                d < 0.005,
+                "tilt {tilt}, frame {i}: {d} px from the integrated centroid"
+            );
+            // Perspective makes the image lopsided: along a turn by a the centroid moves by about
+            // 1.5 x'' s_u^2 with x'' = 2 f cos(a) sin(a) / D^2, 0.02 px at 40 degrees (and the
+            // distortion adds a little); the truth is the projected centre.
+            let off = (cx - truth.centre_px.0).hypot(cy - truth.centre_px.1);
+            eprintln!(
+                "tilt {tilt}, frame {i}: image centroid {off:.4} px from the projected centre"
+            );
+            assert!(off < 0.05, "tilt {tilt}, frame {i}: {off} px");
+        }
+    }
+}
+
+#[test]
+fn a_fast_swing_blurs_the_spot_along_its_path() {
+    let mut fast = laser_only(0.0);
+    fast.swing = Swing {
+        period_s: 4.0,
+        decay_s: 1e9,
+        equilibrium_mm: 0.0,
+        start_mm: 30.0,
+        steps: Vec::new(),
+    };
+    // Frame 1 (1 fps) is a quarter period in: the spot passes the equilibrium at its top speed
+    // 30 mm x 2 pi / 4 s = 47 mm/s, so a 0.1 s exposure smears it over 4.7 mm.
+    fast.exposure_s = 0.1;
+    let blurred = Renderer::new(fast);
+    assert!(
+        blurred.exposure_path(1.0).len() > 10,
+        "too few time steps over the exposure"
+    );
+    let (e, truth) = blurred.expected(1);
+    let (mx, my, vxx) = moments(&e, 1280, truth.centre_px, 30);
+    let d = (mx - truth.centre_px.0).hypot(my - truth.centre_px.1);
+    assert!(
+        d < 0.03,
+        "blurred spot {d} px from the exposure's mean centre"
+    );
+    let still = Renderer::new(Scene {
+        exposure_s: 1e-7,
+        ..blurred.scene.clone()
+    });
+    let (es, ts) = still.expected(1);
+    let (_, _, vs) = moments(&es, 1280, ts.centre_px, 30);
+    let p = |t: f64| {
+        let (u, v) = blurred.beam_mm(t);
+        blurred.pose.project(u, v).unwrap().0
+    };
+    let len = p(1.1) - p(1.0);
+    // A uniform smear of length L adds L^2 / 12 to the variance along it; the speed changes by
+    // under 1 % over the exposure.
+    let want = len * len / 12.0;
+    assert!(
+        ((vxx - vs) / want - 1.0).abs() < 0.05,
+        "added variance {} px^2, want {want}",
+        vxx - vs
+    );
+}
+
+// ---------------------------------------------------------------------------------------------
+// The finder on 1280 x 720 sequences.
+
+/// Frames in the measured run, 1 fps.
+const FRAMES: usize = 400;
+/// The room light steps up by 1.6 here (a ceiling light switched on), s.
+const LIGHT_STEP_S: f64 = 200.0;
+/// The beam is blocked over [320, 340) s, with a half-blocked spot for 4 s either side.
+const BLOCKED: (f64, f64) = (320.0, 340.0);
+
+/// The measured run: the default camera (30 degrees off-axis), graph-paper ruling, speckle, a ghost,
+/// a light step at 200 s and a 10 % ramp over the run, a shadow band crossing the screen from 60 s
+/// to 120 s, the swing's equilibrium stepping at 130 s and 270 s, and the beam blocked.
+fn measured_scene() -> Scene {
+    Scene {
+        light: RoomLight {
+            steps: vec![(LIGHT_STEP_S, 1.6)],
+            ramps: vec![(0.0, FRAMES as f64, 0.1)],
+            shadows: vec![Shadow {
+                start_s: 60.0,
+                from_u_mm: -250.0,
+                speed_mm_s: 8.0,
+                width_mm: 60.0,
+                edge_mm: 10.0,
+                depth: 0.6,
+                duration_s: 60.0,
+            }],
+            ..RoomLight::default()
+        },
+        blocked: vec![BLOCKED],
+        half_blocked: vec![(BLOCKED.0 - 4.0, BLOCKED.0), (BLOCKED.1, BLOCKED.1 + 4.0)],
+        seed: 2026,
+        ..Scene::default()
+    }
+}
+
+/// Half-size of the plain centroid's window, px: three of the spot's sigmas (about 4 px along the
+/// scale here), enough to hold everything above half its peak.
+const CENTROID_HALF: usize = 12;
+
+/// The plain thresholded centroid: the brightest 8 x 8 block, then in a 25 x 25 window around it
+/// the pixels above half the peak over the median of the window's border, weighted by their excess,
+/// first moments; once more in a window around that answer.
+fn plain_centroid(w: usize, h: usize, px: &[u8]) -> Option<(f64, f64)> {
+    let b = 8;
+    let mut best = (0u32, 0usize, 0usize);
+    for by in 0..h / b {
+        for bx in 0..w / b {
+            let mut s = 0u32;
+            for y in by * b..(by + 1) * b {
+                s += px[y * w + bx * b..y * w + (bx + 1) * b]
+                    .iter()
+                    .map(|&p| p as u32)
+                    .sum::<u32>();
+            }
+            if s > best.0 {
+                best = (s, bx, by);
+            }
+        }
+    }
+    let mut c = ((best.1 * b + b / 2) as f64, (best.2 * b + b / 2) as f64);
+    for _ in 0..2 {
+        c = window_centroid(w, h, px, c, CENTROID_HALF)?;
+    }
+    Some(c)
+}
+
+fn window_centroid(w: usize, h: usize, px: &[u8], c: (f64, f64), r: usize) -> Option<(f64, f64)> {
+    let x0 = (c.0.round() as usize).saturating_sub(r);
+    let y0 = (c.1.round() as usize).saturating_sub(r);
+    let (x1, y1) = ((x0 + 2 * r).min(w - 1), (y0 + 2 * r).min(h - 1));
+    let mut border = Vec::new();
+    let mut peak = 0u8;
+    for y in y0..=y1 {
+        for x in x0..=x1 {
+            let p = px[y * w + x];
+            peak = peak.max(p);
+            if x == x0 || x == x1 || y == y0 || y == y1 {
+                border.push(p);
+            }
+        }
+    }
+    border.sort_unstable();
+    let bg = border[border.len() / 2] as f64;
+    let half = bg + (peak as f64 - bg) / 2.0;
+    let (mut s, mut sx, mut sy) = (0.0, 0.0, 0.0);
+    for y in y0..=y1 {
+        for x in x0..=x1 {
+            let p = px[y * w + x] as f64;
+            if p > half {
+                s += p - bg;
+                sx += (p - bg) * x as f64;
+                sy += (p - bg) * y as f64;
+            }
+        }
+    }
+    (s > 0.0).then(|| (sx / s, sy / s))
+}
+
+/// One method's answers on one sequence.
+#[derive(Debug, Default, Clone)]
+struct Answers {
+    positions: Vec<Option<(f64, f64)>>,
+    statuses: Vec<Option<SpotStatus>>,
+}
+
+/// Both methods on both stored forms of the same frames.
+struct Run {
+    truths: Vec<Truth>,
+    /// (spotlever PNG, centroid PNG, spotlever JPEG 85, centroid JPEG 85).
+    answers: [Answers; 4],
+}
+
+/// Frames `frames` of the measured scene through fresh trackers and the plain centroid, as stored
+/// losslessly and, when `jpeg`, also as JPEG 85 (answers 2 and 3 stay empty otherwise).
+fn run_sequence(frames: std::ops::Range<usize>, jpeg: bool) -> Run {
+    let r = Renderer::new(measured_scene());
+    let (w, h) = (r.scene.camera.width, r.scene.camera.height);
+    let mut trackers = [
+        Tracker::new(SpotConfig::default()),
+        Tracker::new(SpotConfig::default()),
+    ];
+    let mut answers: [Answers; 4] = Default::default();
+    let mut truths = Vec::with_capacity(frames.len());
+    for i in frames {
+        let shot = r.frame(i);
+        let mut forms = vec![shot.pixels];
+        if jpeg {
+            forms.push(jpeg_round_trip(w, h, &forms[0], 85).expect("JPEG round trip of a frame"));
+        }
+        for (k, px) in forms.into_iter().enumerate() {
+            let centroid = plain_centroid(w, h, &px);
+            let plane = Plane::from_u8_vec(w, h, px).expect("frame size");
+            let fix = trackers[k].process(&plane);
+            let a = &mut answers[2 * k];
+            a.positions.push(fix.position.map(|p| (p.x, p.y)));
+            a.statuses.push(Some(fix.status));
+            let a = &mut answers[2 * k + 1];
+            a.positions.push(centroid);
+            a.statuses.push(None);
+        }
+        truths.push(shot.truth);
+    }
+    Run { truths, answers }
+}
+
+fn run() -> &'static Run {
+    static RUN: OnceLock<Run> = OnceLock::new();
+    RUN.get_or_init(|| {
+        let run = run_sequence(0..FRAMES, true);
+        print_table(&run);
+        run
+    })
+}
+
+/// The figures of one method on one sequence.
+#[derive(Debug, Clone, Copy)]
+struct Figures {
+    /// RMS radial error over visible, unclipped-by-a-knife frames with an answer, px.
+    rms: f64,
+    /// Frames (visible, whole spot) without an answer.
+    missed: usize,
+    /// RMS over the same frames before the light step, and after it, px.
+    rms_before: f64,
+    rms_after: f64,
+    /// Mean error vector's length over the frames after the light step up to the half-block, px.
+    bias_after_step: f64,
+    /// Its standard error from the scatter of the errors (speckle dominates it), px.
+    bias_se: f64,
+    /// Blocked frames answered `Ok` or `Saturated` (the finder only).
+    blocked_found: usize,
+    blocked: usize,
+    /// Visible frames whose answer is nearer the ghost than the spot.
+    on_ghost: usize,
+}
+
+fn figures(run: &Run, a: &Answers) -> Figures {
+    let (mut se, mut n, mut missed, mut on_ghost) = (0.0, 0usize, 0usize, 0usize);
+    let (mut bx, mut by, mut bn) = (0.0, 0.0, 0usize);
+    let (mut se0, mut n0, mut se1) = (0.0, 0usize, 0.0);
+    let mut after = Vec::new();
+    let (mut blocked, mut blocked_found) = (0usize, 0usize);
+    for (i, t) in run.truths.iter().enumerate() {
+        if t.blocked {
+            blocked += 1;
+            if matches!(a.statuses[i], Some(SpotStatus::Ok | SpotStatus::Saturated)) {
+                blocked_found += 1;
+            }
+            continue;
+        }
+        if t.half_blocked {
+            continue;
+        }
+        let Some(p) = a.positions[i] else {
+            missed += 1;
+            continue;
+        };
+        let (dx, dy) = (p.0 - t.centre_px.0, p.1 - t.centre_px.1);
+        se += dx * dx + dy * dy;
+        n += 1;
+        if let Some(g) = t.ghost_px {
+            if (p.0 - g.0).hypot(p.1 - g.1) < dx.hypot(dy) {
+                on_ghost += 1;
+            }
+        }
+        if t.time_s < LIGHT_STEP_S {
+            se0 += dx * dx + dy * dy;
+            n0 += 1;
+        } else {
+            se1 += dx * dx + dy * dy;
+        }
+        if t.time_s >= LIGHT_STEP_S && t.time_s < BLOCKED.0 - 4.0 {
+            bx += dx;
+            by += dy;
+            after.push((dx, dy));
+            bn += 1;
+        }
+    }
+    Figures {
+        rms: (se / n.max(1) as f64).sqrt(),
+        rms_before: (se0 / n0.max(1) as f64).sqrt(),
+        rms_after: (se1 / (n - n0).max(1) as f64).sqrt(),
+        missed,
+        bias_after_step: (bx / bn as f64).hypot(by / bn as f64),
+        bias_se: {
+            let (mx, my) = (bx / bn as f64, by / bn as f64);
+            let ss: f64 = after
+                .iter()
+                .map(|e| (e.0 - mx).powi(2) + (e.1 - my).powi(2))
+                .sum();
+            (ss / (bn as f64 - 1.0) / bn as f64).sqrt()
+        },
+        blocked_found,
+        blocked,
+        on_ghost,
+    }
+}
+
+fn print_table(run: &Run) {
+    let names = [
+        "spotlever, PNG",
+        "centroid, PNG",
+        "spotlever, JPEG 85",
+        "centroid, JPEG 85",
+    ];
+    eprintln!(
+        "\n{FRAMES} frames 1280 x 720 at 1 fps (camera model: 30 deg off-axis, ruling, speckle, ghost, \
+         light step at {LIGHT_STEP_S} s, shadow 60-120 s, beam blocked {:.0}-{:.0} s)",
+        BLOCKED.0, BLOCKED.1
+    );
+    eprintln!(
+        "{:<20} {:>8} {:>8} {:>8} {:>7} {:>15} {:>14} {:>9}",
+        "method",
+        "RMS px",
+        "before",
+        "after",
+        "missed",
+        "bias px (se)",
+        "blocked found",
+        "on ghost"
+    );
+    for (name, a) in names.iter().zip(&run.answers) {
+        let f = figures(run, a);
+        let blocked = if a.statuses[0].is_some() {
+            format!("{} of {}", f.blocked_found, f.blocked)
+        } else {
+            "-".to_string()
+        };
+        eprintln!(
+            "{name:<20} {:>8.3} {:>8.3} {:>8.3} {:>7} {:>15} {:>14} {:>9}",
+            f.rms,
+            f.rms_before,
+            f.rms_after,
+            f.missed,
+            format!("{:.3} ({:.3})", f.bias_after_step, f.bias_se),
+            blocked,
+            f.on_ghost
+        );
+    }
+    for (name, k) in [("PNG", 0), ("JPEG 85", 2)] {
+        let mut statuses = std::collections::BTreeMap::new();
+        for (i, t) in run.truths.iter().enumerate() {
+            if t.blocked {
+                let st = run.answers[k].statuses[i].map_or("-", SpotStatus::as_str);
+                statuses.entry(st).or_insert_with(Vec::new).push(i);
+            }
+        }
+        eprintln!("spotlever {name}, blocked frames by status: {statuses:?}");
+    }
+    let missed: Vec<usize> = (0..run.truths.len())
+        .filter(|&i| run.truths[i].visible && run.answers[0].positions[i].is_none())
+        .collect();
+    eprintln!("spotlever PNG, visible frames without a position: {missed:?}\n");
+}
+
+#[test]
+#[ignore = "measurement: prints the table of the finder's figures (about 40 s in the debug profile)"]
+fn print_the_figures() {
+    let _ = run();
+}
+
+#[test]
+#[ignore = "target for the spot finder: RMS at most 0.8 x the plain centroid's (measured today: PNG \
+            1.871 vs 2.384 px, ratio 0.78; JPEG 85 1.955 vs 2.389 px, ratio 0.82)"]
+fn rms_is_at_most_0_8_of_the_plain_centroid() {
+    let r = run();
+    for (name, k) in [("PNG", 0), ("JPEG 85", 2)] {
+        let (finder, centroid) = (figures(r, &r.answers[k]), figures(r, &r.answers[k + 1]));
+        assert!(
+            finder.rms <= 0.8 * centroid.rms,
+            "{name}: spotlever RMS {:.3} px, plain centroid {:.3} px, ratio {:.3}",
+            finder.rms,
+            centroid.rms,
+            finder.rms / centroid.rms
+        );
+    }
+}
+
+#[test]
+#[ignore = "target for the spot finder: mean error at most 0.1 px after the light step (measured \
+            today: PNG 0.626 px, JPEG 85 0.659 px; standard errors 0.157 and 0.170 px)"]
+fn mean_error_after_the_light_step_is_at_most_0_1_px() {
+    let r = run();
+    for (name, k) in [("PNG", 0), ("JPEG 85", 2)] {
+        let f = figures(r, &r.answers[k]);
+        assert!(
+            f.bias_after_step <= 0.1,
+            "{name}: mean error {:.3} px (standard error {:.3} px) over {LIGHT_STEP_S}..{} s",
+            f.bias_after_step,
+            f.bias_se,
+            BLOCKED.0 - 4.0
+        );
+    }
+}
+
+#[test]
+#[ignore = "target for the spot finder: no blocked-beam frame reported ok or saturated (measured \
+            today: PNG 0 of 20; JPEG 85 1 of 20, frame 320 ok)"]
+fn no_blocked_frame_is_reported_found_over_the_run() {
+    let r = run();
+    for (name, k) in [("PNG", 0), ("JPEG 85", 2)] {
+        let f = figures(r, &r.answers[k]);
+        assert_eq!(
+            f.blocked_found, 0,
+            "{name}: {} of {} blocked frames reported found",
+            f.blocked_found, f.blocked
+        );
+    }
+}
+
+/// Frames 300..350 of the measured run, losslessly stored: the spot, its half-blocked edges, the
+/// 20 blocked frames and the spot back, with the ghost in every visible frame.
+#[test]
+fn blocked_frames_are_not_found_and_the_ghost_is_not_taken() {
+    let r = run_sequence(300..350, false);
+    let (finder, centroid) = (figures(&r, &r.answers[0]), figures(&r, &r.answers[1]));
+    eprintln!("frames 300..350: spotlever {finder:?}\nplain centroid {centroid:?}");
+    assert_eq!(finder.blocked, 20);
+    assert_eq!(finder.blocked_found, 0, "blocked frames reported found");
+    assert_eq!(
+        finder.on_ghost, 0,
+        "frames where the ghost was taken for the spot"
+    );
+}
