@@ -20,6 +20,7 @@
 
 pub mod beam;
 pub mod camera;
+pub mod judge;
 pub mod motion;
 pub mod screen;
 pub mod sensor;

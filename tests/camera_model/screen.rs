@@ -7,7 +7,10 @@
 //! n = floor(s / p), r = s - n p, so the covered fraction of any interval follows exactly. Minor and
 //! major families along u and along v multiply (ink printed over ink), so a fine grid is
 //! T(u, v) = T_u(u) T_v(v) with T_u = (1 - a_minor f_minor(u)) (1 - a_major f_major(u)). Over a
-//! whole pitch the mean is 1 - a w / p.
+//! whole pitch the mean is 1 - a w / p. Over a pixel footprint the families are averaged one by
+//! one and then multiplied, which is exact for one family and for lines one way, and slightly too
+//! light where a minor line lies under a major one (the mean of a product taken as the product of
+//! means; under 1 % of the light over a 10 mm period for the default ruling).
 //!
 //! Room light: the irradiance from a ceiling lamp treated as a point at height h over the screen
 //! plane falls as cos^3 / r^2, i.e. E ∝ h / r^3 (the inverse-square and Lambert cosine laws),
