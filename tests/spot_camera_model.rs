@@ -16,6 +16,7 @@ use camera_model::beam::speckle_field;
 use camera_model::camera::Camera;
 use camera_model::judge::{figures, print_table, run_sequence, Run, BLOCKED, FRAMES, LIGHT_STEP_S};
 use camera_model::motion::Swing;
+use camera_model::probe::{continuous_centroid, jacobian_det, moments};
 use camera_model::screen::{Lines, RoomLight, Ruling};
 use camera_model::sensor::Sensor;
 use camera_model::{Renderer, Scene};
@@ -253,21 +254,6 @@ fn the_sensor_clips_at_its_full_well_and_at_255() {
     assert!(shot.pixels.iter().all(|&p| p >= 4));
 }
 
-/// |det| of the projection's Jacobian at (u, v), px^2 per mm^2.
-fn jacobian_det(pose: &camera_model::camera::Pose, u: f64, v: f64) -> f64 {
-    let h = 1e-3;
-    let p = |a: f64, b: f64| pose.project(a, b).unwrap();
-    let (xu, yu) = {
-        let (a, b) = (p(u + h, v), p(u - h, v));
-        ((a.0 - b.0) / (2.0 * h), (a.1 - b.1) / (2.0 * h))
-    };
-    let (xv, yv) = {
-        let (a, b) = (p(u, v + h), p(u, v - h));
-        ((a.0 - b.0) / (2.0 * h), (a.1 - b.1) / (2.0 * h))
-    };
-    (xu * yv - xv * yu).abs()
-}
-
 #[test]
 fn the_swing_carries_its_state_over_the_steps() {
     let s = Swing::default();
@@ -305,54 +291,10 @@ fn the_swing_carries_its_state_over_the_steps() {
     assert!((a1 / a0 - (-long.period_s / long.decay_s).exp()).abs() < 1e-3);
 }
 
-/// Light-weighted mean and second moments (x, y, xx) of `e` over a square around `c`.
-fn moments(e: &[f64], w: usize, c: (f64, f64), r: usize) -> (f64, f64, f64) {
-    let (mut s, mut sx, mut sy, mut sxx) = (0.0, 0.0, 0.0, 0.0);
-    let (x0, y0) = (c.0.round() as usize - r, c.1.round() as usize - r);
-    for y in y0..=y0 + 2 * r {
-        for x in x0..=x0 + 2 * r {
-            let v = e[y * w + x];
-            s += v;
-            sx += v * x as f64;
-            sy += v * y as f64;
-            sxx += v * (x as f64).powi(2);
-        }
-    }
-    let (mx, my) = (sx / s, sy / s);
-    (mx, my, sxx / s - mx * mx)
-}
-
 fn laser_only(tilt_u: f64) -> Scene {
     let mut s = quiet_scene(turned_camera(tilt_u, -0.05), Ruling::none(), 0.0, 4000.0);
     s.beam.halo_fraction = 0.0;
     s
-}
-
-/// The image-plane centroid of the renderer's spot at screen centre `c`, by integrating on the
-/// screen: the image of radiance L is L(u(x)), so its moments are
-/// sum over screen points of x(u) L(u) |det J(u)| over sum of L |det J| (a change of variables).
-fn continuous_centroid(r: &Renderer, c: (f64, f64)) -> (f64, f64) {
-    let b = &r.scene.beam;
-    let blob = camera_model::beam::Blob {
-        centre: c,
-        sigma: b.sigma_mm,
-        angle: b.angle_deg.to_radians(),
-        peak: 1.0,
-    };
-    let (step, reach) = (0.05, blob.reach());
-    let n = (reach / step).ceil() as i32;
-    let (mut s, mut sx, mut sy) = (0.0, 0.0, 0.0);
-    for i in -n..=n {
-        for j in -n..=n {
-            let (u, v) = (c.0 + i as f64 * step, c.1 + j as f64 * step);
-            let w = blob.at(u, v) * jacobian_det(&r.pose, u, v);
-            let (x, y) = r.pose.project(u, v).unwrap();
-            s += w;
-            sx += w * x;
-            sy += w * y;
-        }
-    }
-    (sx / s, sy / s)
 }
 
 #[test]

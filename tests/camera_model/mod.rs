@@ -22,6 +22,7 @@ pub mod beam;
 pub mod camera;
 pub mod judge;
 pub mod motion;
+pub mod probe;
 pub mod screen;
 pub mod sensor;
 
