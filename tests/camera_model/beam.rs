@@ -15,7 +15,9 @@
 //!   low-pass filtered by a Gaussian of standard deviation s_k px, the taps scaled so that the sum of
 //!   their squares is 1 (so E|a|^2 = 1); the intensity correlation is then exp(-r^2 / 2 s_k^2). A
 //!   new field is drawn for each frame: over 1 s the beam moves over the rough paper and the laser's
-//!   modes and the air shift, which decorrelates the pattern.
+//!   modes and the air shift, which decorrelates the pattern. A depolarising screen returns two
+//!   independent patterns in orthogonal polarisations; the mean of M independent patterns has
+//!   contrast 1 / sqrt(M) (`speckle_looks`, same source).
 //! - Ghost: the enclosure window's second-surface reflection, a weaker copy of the spot at a fixed
 //!   screen offset, with its own speckle.
 //! - Blocking: a knife edge (a hand, a card) cuts the beam along u with a soft edge.
@@ -40,6 +42,9 @@ pub struct Beam {
     pub halo_scale: f64,
     /// Speckle grain: standard deviation of the intensity correlation, px (0 = no speckle).
     pub speckle_px: f64,
+    /// Independent speckle patterns summed in each frame (1 = fully developed, contrast 1; 2 for a
+    /// depolarising screen such as paper seen without a polariser, contrast 1 / sqrt 2).
+    pub speckle_looks: usize,
     /// The ghost's offset from the spot on the screen, mm, its peak relative to the spot's, and its
     /// width relative to the spot's.
     pub ghost_offset_mm: (f64, f64),
@@ -59,6 +64,7 @@ impl Default for Beam {
             halo_fraction: 0.02,
             halo_scale: 4.0,
             speckle_px: 1.4,
+            speckle_looks: 1,
             ghost_offset_mm: (9.0, 6.0),
             ghost_fraction: 0.2,
             ghost_scale: 1.2,
@@ -125,6 +131,19 @@ pub fn speckle_field<R: Rng>(w: usize, h: usize, sk: f64, rng: &mut R) -> Vec<f6
         }
     }
     out
+}
+
+/// The mean of `looks` independent speckle fields (contrast 1 / sqrt(looks)).
+pub fn speckle_looks<R: Rng>(w: usize, h: usize, sk: f64, looks: usize, rng: &mut R) -> Vec<f64> {
+    let looks = looks.max(1);
+    let mut sum = speckle_field(w, h, sk, rng);
+    for _ in 1..looks {
+        for (a, b) in sum.iter_mut().zip(speckle_field(w, h, sk, rng)) {
+            *a += b;
+        }
+    }
+    sum.iter_mut().for_each(|a| *a /= looks as f64);
+    sum
 }
 
 /// One Gaussian on the screen: centre, axes, angle, peak.
@@ -195,7 +214,7 @@ impl Collect<'_> {
         &self,
         pose: &Pose,
         blobs: &[Blob],
-        speckle_px: f64,
+        speckle: (f64, usize),
         rng: &mut R,
     ) -> Option<Patch> {
         let reach = blobs.iter().map(Blob::reach).fold(0.0, f64::max);
@@ -205,7 +224,7 @@ impl Collect<'_> {
             .map(|c| (c.0 + blobs[0].centre.0, c.1 + blobs[0].centre.1))
             .collect();
         let (x0, y0, w, h) = window(pose, &centres, reach)?;
-        let speckle = speckle_field(w, h, speckle_px, rng);
+        let speckle = speckle_looks(w, h, speckle.0, speckle.1, rng);
         let n = self.path.len() as f64;
         let mut e = vec![0.0; w * h];
         for yy in 0..h {

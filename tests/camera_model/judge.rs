@@ -2,7 +2,7 @@
 //! run's scene, both methods on its frames as stored losslessly and as JPEG 85, and the figures
 //! (RMS error, mean error after the light step, blocked frames reported found, ghost taken).
 
-use super::screen::{RoomLight, Shadow};
+use super::screen::{RoomLight, Ruling, Shadow};
 use super::sensor::jpeg_round_trip;
 use super::{Renderer, Scene, Truth};
 use spotlever::frame::Plane;
@@ -127,7 +127,13 @@ pub struct Run {
 /// Frames `frames` of the measured scene through fresh trackers and the plain centroid, as stored
 /// losslessly and, when `jpeg`, also as JPEG 85 (answers 2 and 3 stay empty otherwise).
 pub fn run_sequence(frames: std::ops::Range<usize>, jpeg: bool) -> Run {
-    let r = Renderer::new(measured_scene());
+    run_scene(measured_scene(), frames, jpeg)
+}
+
+/// As [`run_sequence`], on any scene (with the measured run's timing of light step and blocking
+/// assumed by [`figures`]).
+pub fn run_scene(scene: Scene, frames: std::ops::Range<usize>, jpeg: bool) -> Run {
+    let r = Renderer::new(scene);
     let (w, h) = (r.scene.camera.width, r.scene.camera.height);
     let mut trackers = [
         Tracker::new(SpotConfig::default()),
@@ -295,4 +301,36 @@ pub fn print_table(run: &Run) {
         .filter(|&i| run.truths[i].visible && run.answers[0].positions[i].is_none())
         .collect();
     eprintln!("spotlever PNG, visible frames without a position: {missed:?}\n");
+}
+
+/// Print the run's figures (lossless frames) with one effect of the model removed or changed at a
+/// time.
+pub fn print_effects() {
+    type Change = fn(&mut Scene);
+    let variants: [(&str, Change); 6] = [
+        ("as measured", |_| {}),
+        ("no speckle", |s| s.beam.speckle_px = 0.0),
+        ("no ghost", |s| s.ghost = false),
+        ("2-look speckle", |s| s.beam.speckle_looks = 2),
+        ("plain paper", |s| s.ruling = Ruling::none()),
+        ("steady light", |s| {
+            s.light.steps.clear();
+            s.light.ramps.clear();
+            s.light.shadows.clear();
+        }),
+    ];
+    eprintln!(
+        "\nlossless frames 0..{FRAMES}, one effect removed\n{:<14} {:>13} {:>13} {:>15} {:>15}",
+        "scene", "spotlever RMS", "centroid RMS", "spotlever bias", "centroid bias"
+    );
+    for (name, change) in variants {
+        let mut scene = measured_scene();
+        change(&mut scene);
+        let r = run_scene(scene, 0..FRAMES, false);
+        let (f, c) = (figures(&r, &r.answers[0]), figures(&r, &r.answers[1]));
+        eprintln!(
+            "{name:<14} {:>13.3} {:>13.3} {:>15.3} {:>15.3}",
+            f.rms, c.rms, f.bias_after_step, c.bias_after_step
+        );
+    }
 }

@@ -245,10 +245,10 @@ impl Renderer {
                 cut,
             };
             let (spot, ghost) = self.laser_blobs();
-            let sk = self.scene.beam.speckle_px;
+            let sk = (self.scene.beam.speckle_px, self.scene.beam.speckle_looks);
             let patches = [
                 collect.patch(&self.pose, &spot[..1], sk, &mut rng),
-                collect.patch(&self.pose, &spot[1..], 0.0, &mut rng),
+                collect.patch(&self.pose, &spot[1..], (0.0, 1), &mut rng),
                 ghost.and_then(|g| collect.patch(&self.pose, &[g], sk, &mut rng)),
             ];
             for p in patches.into_iter().flatten() {

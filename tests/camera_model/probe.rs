@@ -1,9 +1,12 @@
 //! Measurements of the model's own rendered light, for its checks: the image-plane moments of a
-//! patch, the projection's Jacobian, and the centroid a spot's image has in the continuum.
+//! patch, the projection's Jacobian, and the centroid a spot's image has in the continuum; and the
+//! plain scenes those checks render.
 
 use super::beam::Blob;
-use super::camera::Pose;
-use super::Renderer;
+use super::camera::{Camera, Pose};
+use super::screen::{RoomLight, Ruling};
+use super::sensor::Sensor;
+use super::{Renderer, Scene};
 
 /// |det| of the projection's Jacobian at (u, v), px^2 per mm^2.
 pub fn jacobian_det(pose: &Pose, u: f64, v: f64) -> f64 {
@@ -62,4 +65,42 @@ pub fn continuous_centroid(r: &Renderer, c: (f64, f64)) -> (f64, f64) {
         }
     }
     (sx / s, sy / s)
+}
+
+pub fn turned_camera(tilt_u: f64, k1: f64) -> Camera {
+    Camera {
+        tilt_u_deg: tilt_u,
+        tilt_v_deg: 0.0,
+        roll_deg: 0.0,
+        k1,
+        ..Camera::default()
+    }
+}
+
+/// A noise-free scene: no ghost, no speckle, flat room light at `room_e`, spot peak `peak_e`.
+pub fn quiet_scene(camera: Camera, ruling: Ruling, room_e: f64, peak_e: f64) -> Scene {
+    let mut s = Scene {
+        camera,
+        ruling,
+        light: RoomLight {
+            level_e: room_e,
+            lamp_mm: (0.0, 0.0, 1e7),
+            ..RoomLight::default()
+        },
+        sensor: Sensor {
+            noise: false,
+            ..Sensor::default()
+        },
+        ghost: false,
+        ..Scene::default()
+    };
+    s.beam.peak_e = peak_e;
+    s.beam.speckle_px = 0.0;
+    s
+}
+
+pub fn laser_only(tilt_u: f64) -> Scene {
+    let mut s = quiet_scene(turned_camera(tilt_u, -0.05), Ruling::none(), 0.0, 4000.0);
+    s.beam.halo_fraction = 0.0;
+    s
 }
