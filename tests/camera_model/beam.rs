@@ -24,7 +24,8 @@
 //! - Collection: each pixel averages the light times the ruling's transmission over 2 x 2
 //!   sub-pixel points (each with a quarter of the pixel's footprint, using the local Jacobian), and
 //!   over the exposure in time steps short enough that the spot moves at most a quarter pixel per
-//!   step (motion blur). The speckle multiplies the laser light per pixel.
+//!   step (motion blur). The speckle multiplies the laser light per pixel, and the lens's natural
+//!   vignetting (cos^4 of the field angle) dims it as it dims the room light.
 
 use super::camera::{Pose, ScreenMap};
 use super::screen::Ruling;
@@ -251,7 +252,7 @@ impl Collect<'_> {
                     }
                     sum += t * knife * light;
                 }
-                e[yy * w + xx] = sum / (4.0 * n) * speckle[yy * w + xx];
+                e[yy * w + xx] = sum / (4.0 * n) * speckle[yy * w + xx] * self.map.vignette[i];
             }
         }
         Some(Patch { x0, y0, w, h, e })

@@ -42,7 +42,8 @@ pub fn moments(e: &[f64], w: usize, c: (f64, f64), r: usize) -> (f64, f64, f64) 
 
 /// The image-plane centroid of the renderer's spot at screen centre `c`, by integrating on the
 /// screen: the image of radiance L is L(u(x)), so its moments are
-/// sum over screen points of x(u) L(u) |det J(u)| over sum of L |det J| (a change of variables).
+/// sum over screen points of x(u) L(u) V |det J(u)| over sum of L V |det J| (a change of
+/// variables; V the vignetting at x).
 pub fn continuous_centroid(r: &Renderer, c: (f64, f64)) -> (f64, f64) {
     let b = &r.scene.beam;
     let blob = Blob {
@@ -57,8 +58,12 @@ pub fn continuous_centroid(r: &Renderer, c: (f64, f64)) -> (f64, f64) {
     for i in -n..=n {
         for j in -n..=n {
             let (u, v) = (c.0 + i as f64 * step, c.1 + j as f64 * step);
-            let w = blob.at(u, v) * jacobian_det(&r.pose, u, v);
             let (x, y) = r.pose.project(u, v).unwrap();
+            let cam = r.pose.camera();
+            let xn = (x - cam.width as f64 / 2.0) / cam.focal_px;
+            let yn = (y - cam.height as f64 / 2.0) / cam.focal_px;
+            let vignette = 1.0 / (1.0 + xn * xn + yn * yn).powi(2);
+            let w = blob.at(u, v) * jacobian_det(&r.pose, u, v) * vignette;
             s += w;
             sx += w * x;
             sy += w * y;
