@@ -12,6 +12,7 @@ pub mod error;
 pub mod export;
 pub mod frame;
 pub mod lever;
+pub mod outfile;
 pub mod physics;
 pub mod plan;
 pub mod record;

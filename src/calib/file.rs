@@ -214,15 +214,8 @@ impl Calibration {
             path: path.to_path_buf(),
             source,
         };
-        let tmp = path.with_extension("toml.partial");
-        let mut f = std::fs::File::create(&tmp).map_err(werr)?;
-        f.write_all(self.to_toml().as_bytes()).map_err(werr)?;
-        f.sync_all().map_err(werr)?;
-        drop(f);
-        std::fs::rename(&tmp, path).map_err(|source| {
-            let _ = std::fs::remove_file(&tmp);
-            werr(source)
-        })
+        crate::outfile::write_whole(path, |out| out.write_all(self.to_toml().as_bytes()))
+            .map_err(werr)
     }
 }
 

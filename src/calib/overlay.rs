@@ -168,9 +168,12 @@ pub fn write(
     grid_pitch_mm: f64,
 ) -> Result<(), CalibError> {
     let img = render(base, calib, pairs, used, grid_pitch_mm);
-    img.save_with_format(path, image::ImageFormat::Png)
-        .map_err(|e| CalibError::Write {
-            path: path.to_path_buf(),
-            source: std::io::Error::other(e.to_string()),
-        })
+    crate::outfile::write_whole(path, |out| {
+        img.write_to(out, image::ImageFormat::Png)
+            .map_err(|e| std::io::Error::other(e.to_string()))
+    })
+    .map_err(|source| CalibError::Write {
+        path: path.to_path_buf(),
+        source,
+    })
 }

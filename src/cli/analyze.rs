@@ -4,7 +4,8 @@
 use anyhow::Context;
 use clap::Args;
 use spotlever::analysis::{self, AnalysisOptions, Summary};
-use spotlever::export::write_results;
+use spotlever::export::{write_results, RESULT_FILES};
+use spotlever::outfile::Outputs;
 use spotlever::setup::Setup;
 use spotlever::track::read_track;
 use std::path::PathBuf;
@@ -30,7 +31,11 @@ pub struct AnalyzeArgs {
     pub draws: usize,
 }
 
-pub fn run(args: AnalyzeArgs) -> anyhow::Result<()> {
+pub fn run(args: AnalyzeArgs, mut outputs: Outputs) -> anyhow::Result<()> {
+    for p in [&args.track, &args.setup].into_iter().chain(&args.events) {
+        outputs.input(p);
+    }
+    outputs.claim_in(&args.out, RESULT_FILES, "--out")?;
     let setup = Setup::load(&args.setup)?;
     let track = read_track(&args.track)?;
     let lever = spotlever::lever::Lever::from_setup(&setup);

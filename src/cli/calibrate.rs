@@ -6,6 +6,7 @@ use clap::Args;
 use spotlever::calib::homography::RobustOptions;
 use spotlever::calib::report::FitSummary;
 use spotlever::calib::{fit_calibration, grid, overlay, pairs};
+use spotlever::outfile::{Kind, Outputs};
 use spotlever::units::PixelPoint;
 use std::path::PathBuf;
 
@@ -60,7 +61,15 @@ fn parse_origin(s: &str) -> anyhow::Result<PixelPoint> {
     Ok(PixelPoint { x, y })
 }
 
-pub fn run(args: CalibrateArgs) -> anyhow::Result<()> {
+pub fn run(args: CalibrateArgs, mut outputs: Outputs) -> anyhow::Result<()> {
+    outputs.input(&args.image);
+    if let Some(p) = &args.points {
+        outputs.input(p);
+    }
+    outputs.claim(&args.out, Kind::Toml, "--out")?;
+    if let Some(o) = &args.overlay {
+        outputs.claim(o, Kind::Png, "--overlay")?;
+    }
     anyhow::ensure!(
         args.reject_px.is_finite() && args.reject_px > 0.0,
         "--reject-px must be a positive number of pixels"

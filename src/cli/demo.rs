@@ -7,7 +7,8 @@ use clap::Args;
 use spotlever::analysis::{self, read_events, AnalysisOptions, Summary};
 use spotlever::calib::homography::RobustOptions;
 use spotlever::calib::{fit_calibration, grid, Calibration};
-use spotlever::export::write_results;
+use spotlever::export::{write_results, RESULT_FILES};
+use spotlever::outfile::{Kind, Outputs};
 use spotlever::physics::{G_CODATA_2018, G_CODATA_2018_U};
 use spotlever::setup::Setup;
 use spotlever::source::{open, OpenOptions};
@@ -35,13 +36,23 @@ fn default_data() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("sample-frames")
 }
 
-pub fn run(args: DemoArgs) -> anyhow::Result<()> {
+pub fn run(args: DemoArgs, mut outputs: Outputs) -> anyhow::Result<()> {
     let data = &args.data;
     anyhow::ensure!(
         data.join("setup.toml").is_file(),
         "{} does not hold the demo run (no setup.toml); regenerate it with `cargo run --release --example make_demo_data` or point --data at it",
         data.display()
     );
+    for name in ["setup.toml", "events.csv", "screen.png", "frames"] {
+        outputs.input(&data.join(name));
+    }
+    if let Some(p) = &args.calib {
+        outputs.input(p);
+    }
+    outputs.claim(&args.out, Kind::Folder, "--out")?;
+    outputs.claim(&args.out.join("calibration.toml"), Kind::Toml, "--out")?;
+    outputs.claim(&args.out.join("track.csv"), Kind::Csv, "--out")?;
+    outputs.claim_in(&args.out.join("analysis"), RESULT_FILES, "--out")?;
     std::fs::create_dir_all(&args.out)
         .with_context(|| format!("cannot create the output folder {}", args.out.display()))?;
     println!("demo data: {}", data.display());

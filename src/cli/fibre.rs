@@ -1,6 +1,7 @@
 //! `spotlever fibre`: torsion constant and shear modulus of trial fibres from the period of a test body.
 
 use clap::Args;
+use spotlever::outfile::{Kind, Outputs};
 use spotlever::plan::trial::{evaluate, period_from_track, read_trials, write_csv, PeriodSource};
 use spotlever::plan::trial_table::TrialTable;
 use std::path::PathBuf;
@@ -15,8 +16,17 @@ pub struct FibreArgs {
     pub csv: Option<PathBuf>,
 }
 
-pub fn run(args: FibreArgs) -> anyhow::Result<()> {
+pub fn run(args: FibreArgs, mut outputs: Outputs) -> anyhow::Result<()> {
     let inputs = read_trials(&args.trials)?;
+    outputs.input(&args.trials);
+    for t in &inputs {
+        if let PeriodSource::Track(p) = &t.period {
+            outputs.input(p);
+        }
+    }
+    if let Some(csv) = &args.csv {
+        outputs.claim(csv, Kind::Csv, "--csv")?;
+    }
     let mut results = Vec::new();
     for t in &inputs {
         let period = match &t.period {

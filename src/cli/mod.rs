@@ -2,6 +2,7 @@
 //! wires library stages together.
 
 use clap::{Parser, Subcommand};
+use spotlever::outfile::Outputs;
 
 mod analyze;
 mod calibrate;
@@ -17,6 +18,10 @@ mod track;
 pub struct Cli {
     #[command(subcommand)]
     pub command: Command,
+    /// Let an output replace an existing file of another kind (e.g. a video where a CSV would be
+    /// written). Inputs of the command are never replaced.
+    #[arg(long, global = true)]
+    pub replace_any: bool,
 }
 
 #[derive(Debug, Subcommand)]
@@ -38,13 +43,14 @@ pub enum Command {
 }
 
 pub fn run(cli: Cli) -> anyhow::Result<()> {
+    let outputs = Outputs::new(cli.replace_any);
     match cli.command {
-        Command::Demo(a) => demo::run(a),
-        Command::Track(a) => track::run(a),
-        Command::Calibrate(a) => calibrate::run(a),
-        Command::Analyze(a) => analyze::run(a),
-        Command::Record(a) => record::run(a),
+        Command::Demo(a) => demo::run(a, outputs),
+        Command::Track(a) => track::run(a, outputs),
+        Command::Calibrate(a) => calibrate::run(a, outputs),
+        Command::Analyze(a) => analyze::run(a, outputs),
+        Command::Record(a) => record::run(a, outputs),
         Command::Plan(a) => plan::run(a),
-        Command::Fibre(a) => fibre::run(a),
+        Command::Fibre(a) => fibre::run(a, outputs),
     }
 }

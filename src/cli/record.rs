@@ -3,9 +3,10 @@
 use anyhow::bail;
 use clap::Args;
 use spotlever::frame::Channel;
+use spotlever::outfile::Outputs;
 use spotlever::record::input::install_stop_signals;
 use spotlever::record::request::{prepare, RecordRequest};
-use spotlever::record::run_dir::Existing;
+use spotlever::record::run_dir::{Existing, RUN_FILES};
 use spotlever::record::session;
 use spotlever::source::camera::{self, CameraChoice, CameraError};
 use std::io::IsTerminal;
@@ -88,13 +89,17 @@ fn list_cameras() -> anyhow::Result<()> {
     Ok(())
 }
 
-pub fn run(args: RecordArgs) -> anyhow::Result<()> {
+pub fn run(args: RecordArgs, mut outputs: Outputs) -> anyhow::Result<()> {
     if args.list_cameras {
         return list_cameras();
     }
     let Some(out) = args.out else {
         bail!("give the run folder with --out RUN_DIR");
     };
+    for p in args.source.iter().chain(&args.calib) {
+        outputs.input(p);
+    }
+    outputs.claim_in(&out, RUN_FILES, "--out")?;
     let existing = if args.append {
         Existing::Append
     } else if args.force {

@@ -5,6 +5,7 @@ use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use spotlever::calib::Calibration;
 use spotlever::frame::Channel;
+use spotlever::outfile::{Kind, Outputs};
 use spotlever::source::{open, OpenOptions, SourceInfo, VideoDecoder};
 use spotlever::spot::Roi;
 use spotlever::track::{spot_config_for, track_to_file, ScreenMap};
@@ -75,7 +76,12 @@ fn progress_bar(len: Option<u64>) -> ProgressBar {
     bar
 }
 
-pub fn run(args: TrackArgs) -> anyhow::Result<()> {
+pub fn run(args: TrackArgs, mut outputs: Outputs) -> anyhow::Result<()> {
+    outputs.input(&args.input);
+    for p in args.calib.iter().chain(&args.times) {
+        outputs.input(p);
+    }
+    outputs.claim(&args.out, Kind::Csv, "--out")?;
     let opts = OpenOptions {
         channel: args.channel,
         every: args.every.map(Seconds),

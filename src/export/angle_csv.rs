@@ -1,10 +1,9 @@
 //! `angle.csv`: the twist-angle series the analysis used, one row per sample (`t_s,theta_rad,segment`),
-//! the segment being 1-based (0 for samples outside every segment). Written and flushed as it
-//! goes.
+//! the segment being 1-based (0 for samples outside every segment). Written whole
+//! through a temporary file, renamed into place when complete.
 
 use crate::analysis::{Analysis, Sample};
-use std::fs::File;
-use std::io::{BufWriter, Write};
+use std::io::Write;
 use std::path::Path;
 
 use super::result_json::WriteError;
@@ -15,9 +14,16 @@ pub fn write_angle_csv(
     samples: &[Sample],
     analysis: &Analysis,
 ) -> Result<(), WriteError> {
-    let err = |source| WriteError::new(path, source);
-    let mut out = BufWriter::new(File::create(path).map_err(err)?);
-    writeln!(out, "t_s,theta_rad,segment").map_err(err)?;
+    crate::outfile::write_whole(path, |out| write_rows(out, samples, analysis))
+        .map_err(|source| WriteError::new(path, source))
+}
+
+fn write_rows(
+    out: &mut impl Write,
+    samples: &[Sample],
+    analysis: &Analysis,
+) -> std::io::Result<()> {
+    writeln!(out, "t_s,theta_rad,segment")?;
     let last = analysis.segments.last().map_or(0, |g| g.index);
     for s in samples {
         if !(s.t.is_finite() && s.theta.is_finite()) {
@@ -28,7 +34,7 @@ pub fn write_angle_csv(
             .iter()
             .find(|g| s.t >= g.start && (s.t < g.end || (g.index == last && s.t <= g.end)))
             .map_or(0, |g| g.index);
-        writeln!(out, "{:.6},{:.9e},{seg}", s.t, s.theta).map_err(err)?;
+        writeln!(out, "{:.6},{:.9e},{seg}", s.t, s.theta)?;
     }
-    out.flush().map_err(err)
+    Ok(())
 }

@@ -8,4 +8,4 @@ pub mod result_json;
 mod results;
 pub mod segments_csv;
 
-pub use results::{write_results, ResultsError};
+pub use results::{write_results, ResultsError, RESULT_FILES};

@@ -6,15 +6,52 @@
 use super::result_json::WriteError;
 use crate::analysis::{Analysis, Sample};
 use plotters::prelude::*;
+use std::io::Write;
 use std::path::Path;
 
-fn draw_err<E: std::fmt::Debug>(path: &Path) -> impl Fn(E) -> WriteError + '_ {
+/// Width of the drawing, px: a series is thinned to what this many columns can show.
+const WIDTH_PX: u32 = 1100;
+
+fn draw_err<E: std::fmt::Display>(path: &Path) -> impl Fn(E) -> WriteError + '_ {
     move |e| {
         WriteError::new(
             path,
-            std::io::Error::other(format!("drawing the report: {e:?}")),
+            std::io::Error::other(format!("drawing the report: {e}")),
         )
     }
+}
+
+/// `points` (in order of x over `x0..x1`) thinned to what `columns` pixel columns can show: in each
+/// column only its lowest and highest point are kept, in their original order. A series of at most
+/// two points per column is returned unchanged.
+pub fn thin(points: &[(f64, f64)], (x0, x1): (f64, f64), columns: u32) -> Vec<(f64, f64)> {
+    let span = x1 - x0;
+    if points.len() <= 2 * columns as usize || !(span > 0.0) {
+        return points.to_vec();
+    }
+    let column = |x: f64| ((x - x0) / span * f64::from(columns)).floor() as i64;
+    let mut out = Vec::with_capacity(4 * columns as usize);
+    let mut i = 0;
+    while i < points.len() {
+        let c = column(points[i].0);
+        let (mut lo, mut hi) = (i, i);
+        let mut j = i + 1;
+        while j < points.len() && column(points[j].0) == c {
+            if points[j].1 < points[lo].1 {
+                lo = j;
+            }
+            if points[j].1 > points[hi].1 {
+                hi = j;
+            }
+            j += 1;
+        }
+        out.push(points[lo.min(hi)]);
+        if lo != hi {
+            out.push(points[lo.max(hi)]);
+        }
+        i = j;
+    }
+    out
 }
 
 fn range(v: impl Iterator<Item = f64>) -> (f64, f64) {
@@ -36,7 +73,23 @@ type Area<'a> = DrawingArea<SVGBackend<'a>, plotters::coord::Shift>;
 /// Draw the report for `samples` analysed as `a`.
 pub fn write_report_svg(path: &Path, samples: &[Sample], a: &Analysis) -> Result<(), WriteError> {
     let e = draw_err(path);
-    let root = SVGBackend::new(path, (1100, 950)).into_drawing_area();
+    let mut text = String::new();
+    {
+        let root = SVGBackend::with_string(&mut text, (WIDTH_PX, 950)).into_drawing_area();
+        draw_panels(&root, path, samples, a)?;
+        root.present().map_err(&e)?;
+    }
+    crate::outfile::write_whole(path, |out| out.write_all(text.as_bytes()))
+        .map_err(|source| WriteError::new(path, source))
+}
+
+fn draw_panels(
+    root: &Area,
+    path: &Path,
+    samples: &[Sample],
+    a: &Analysis,
+) -> Result<(), WriteError> {
+    let e = draw_err(path);
     root.fill(&WHITE).map_err(&e)?;
     let (top, rest) = root.split_vertically(420);
     let (mid, bottom) = rest.split_vertically(250);
@@ -49,7 +102,6 @@ pub fn write_report_svg(path: &Path, samples: &[Sample], a: &Analysis) -> Result
     let residuals = draw_trace(&top, path, &good, a, (t0, t1))?;
     draw_residuals(&mid, path, &residuals, (t0, t1))?;
     draw_spectrum(&bottom, path, a)?;
-    root.present().map_err(&e)?;
     Ok(())
 }
 
@@ -63,7 +115,8 @@ fn draw_trace(
     (t0, t1): (f64, f64),
 ) -> Result<Vec<(f64, f64)>, WriteError> {
     let e = draw_err(path);
-    let (y0, y1) = range(good.iter().map(|s| s.theta * 1e3));
+    let points: Vec<(f64, f64)> = good.iter().map(|s| (s.t, s.theta * 1e3)).collect();
+    let (y0, y1) = range(points.iter().map(|p| p.1));
     let title = format!(
         "Twist angle, fits and equilibria  (G = {:.4e} ± {:.1e} m^3 kg^-1 s^-2)",
         a.g.value, a.g.u
@@ -83,8 +136,9 @@ fn draw_trace(
         .map_err(&e)?;
     chart
         .draw_series(
-            good.iter()
-                .map(|s| Circle::new((s.t, s.theta * 1e3), 1, RGBColor(120, 120, 120).filled())),
+            thin(&points, (t0, t1), WIDTH_PX)
+                .into_iter()
+                .map(|p| Circle::new(p, 1, RGBColor(120, 120, 120).filled())),
         )
         .map_err(&e)?;
     let mut residuals: Vec<(f64, f64)> = Vec::new();
@@ -99,7 +153,7 @@ fn draw_trace(
             .collect();
         chart
             .draw_series(LineSeries::new(
-                curve,
+                thin(&curve, (t0, t1), WIDTH_PX),
                 RGBColor(200, 40, 40).stroke_width(2),
             ))
             .map_err(&e)?;
@@ -155,9 +209,9 @@ fn draw_residuals(
         .map_err(&e)?;
     chart
         .draw_series(
-            residuals
-                .iter()
-                .map(|&(t, r)| Circle::new((t, r), 1, RGBColor(60, 60, 60).filled())),
+            thin(residuals, (t0, t1), WIDTH_PX)
+                .into_iter()
+                .map(|p| Circle::new(p, 1, RGBColor(60, 60, 60).filled())),
         )
         .map_err(&e)?;
     Ok(())
@@ -193,7 +247,10 @@ fn draw_spectrum(area: &Area, path: &Path, a: &Analysis) -> Result<(), WriteErro
         .draw()
         .map_err(&e)?;
     chart
-        .draw_series(LineSeries::new(pts, RGBColor(120, 40, 160).stroke_width(2)))
+        .draw_series(LineSeries::new(
+            thin(&pts, (0.0, fmax * 1e3), WIDTH_PX),
+            RGBColor(120, 40, 160).stroke_width(2),
+        ))
         .map_err(&e)?;
     chart
         .draw_series(LineSeries::new(

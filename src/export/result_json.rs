@@ -5,6 +5,7 @@
 use crate::analysis::Analysis;
 use crate::physics::{G_CODATA_2018, G_CODATA_2018_U};
 use serde_json::{json, Value};
+use std::io::Write;
 use std::path::{Path, PathBuf};
 
 /// A file that could not be written.
@@ -117,5 +118,9 @@ pub fn result_value(a: &Analysis) -> Value {
 pub fn write_result_json(path: &Path, a: &Analysis) -> Result<(), WriteError> {
     let text = serde_json::to_string_pretty(&result_value(a))
         .map_err(|e| WriteError::new(path, std::io::Error::other(e.to_string())))?;
-    std::fs::write(path, text + "\n").map_err(|e| WriteError::new(path, e))
+    crate::outfile::write_whole(path, |out| {
+        out.write_all(text.as_bytes())?;
+        out.write_all(b"\n")
+    })
+    .map_err(|e| WriteError::new(path, e))
 }

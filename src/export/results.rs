@@ -3,6 +3,7 @@
 use super::result_json::WriteError;
 use super::{angle_csv, report_svg, result_json, segments_csv};
 use crate::analysis::{Analysis, Sample};
+use crate::outfile::Kind;
 use std::path::{Path, PathBuf};
 
 /// Why the analysis' files could not all be written.
@@ -17,6 +18,14 @@ pub enum ResultsError {
     #[error(transparent)]
     Write(#[from] WriteError),
 }
+
+/// The files [`write_results`] writes into its folder, with what each holds.
+pub const RESULT_FILES: &[(&str, Kind)] = &[
+    ("angle.csv", Kind::Csv),
+    ("segments.csv", Kind::Csv),
+    ("result.json", Kind::Json),
+    ("report.svg", Kind::Svg),
+];
 
 /// Write the analysis files (angle.csv, segments.csv, result.json, report.svg) of `samples` analysed
 /// as `analysis` into `dir` (created if needed).

@@ -4,8 +4,7 @@
 //! turning-point rest point, and whether the period was used (with the reason when not).
 
 use crate::analysis::Analysis;
-use std::fs::File;
-use std::io::{BufWriter, Write};
+use std::io::Write;
 use std::path::Path;
 
 use super::result_json::WriteError;
@@ -20,13 +19,16 @@ fn cell(text: &str) -> String {
 
 /// Write the per-segment table.
 pub fn write_segments_csv(path: &Path, analysis: &Analysis) -> Result<(), WriteError> {
-    let err = |source| WriteError::new(path, source);
-    let mut out = BufWriter::new(File::create(path).map_err(err)?);
+    crate::outfile::write_whole(path, |out| write_rows(out, analysis))
+        .map_err(|source| WriteError::new(path, source))
+}
+
+fn write_rows(out: &mut impl Write, analysis: &Analysis) -> std::io::Result<()> {
     writeln!(
         out,
         "segment,label,start_s,end_s,t_ref_s,equilibrium_rad,u_equilibrium_rad,period_s,u_period_s,damping_time_s,residual_rms_rad,points,turning_rest_rad,u_turning_rest_rad,period_used,note"
     )
-    .map_err(err)?;
+    ?;
     for s in &analysis.segments {
         let (p, up) = s.period.map_or((String::new(), String::new()), |p| {
             (format!("{:.6}", p.value), format!("{:.3e}", p.u))
@@ -53,8 +55,7 @@ pub fn write_segments_csv(path: &Path, analysis: &Analysis) -> Result<(), WriteE
             s.points,
             s.used_for_period,
             cell(s.note.as_deref().unwrap_or(""))
-        )
-        .map_err(err)?;
+        )?;
     }
-    out.flush().map_err(err)
+    Ok(())
 }

@@ -214,7 +214,8 @@ pub fn write_csv(path: &Path, results: &[TrialResult]) -> Result<(), PlanError> 
         path: path.to_path_buf(),
         cause,
     };
-    let mut w = csv::Writer::from_path(path).map_err(io)?;
+    let mut text = csv::Writer::from_writer(Vec::new());
+    let w = &mut text;
     w.write_record([
         "name",
         "material",
@@ -249,7 +250,9 @@ pub fn write_csv(path: &Path, results: &[TrialResult]) -> Result<(), PlanError> 
         rec.push(format!("{:.6}", r.ratio_to_table));
         w.write_record(&rec).map_err(io)?;
     }
-    w.flush().map_err(|e| io(e.into()))
+    let bytes = text.into_inner().map_err(|e| io(e.into_error().into()))?;
+    crate::outfile::write_whole(path, |out| std::io::Write::write_all(out, &bytes))
+        .map_err(|e| io(e.into()))
 }
 
 /// The natural period of a free swing recorded in a track CSV: the spot's position along the scale

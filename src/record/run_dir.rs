@@ -7,6 +7,7 @@
 //! whole through a temporary file and a rename, so a kill leaves either the old or the new version.
 
 use super::RecordError;
+use crate::outfile::Kind;
 use crate::track::read_track;
 use serde::{Deserialize, Serialize};
 use std::fs::{self, OpenOptions};
@@ -19,6 +20,14 @@ pub const TRACK_FILE: &str = "track.csv";
 pub const EVENTS_FILE: &str = "events.csv";
 pub const FRAMES_DIR: &str = "frames";
 
+/// What a run folder holds that a session writes: checked as outputs before a session starts.
+pub const RUN_FILES: &[(&str, Kind)] = &[
+    (META_FILE, Kind::Toml),
+    (TRACK_FILE, Kind::Csv),
+    (EVENTS_FILE, Kind::Csv),
+    (FRAMES_DIR, Kind::Folder),
+];
+
 /// What to do when the run folder already exists.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Existing {
@@ -26,7 +35,8 @@ pub enum Existing {
     Refuse,
     /// Continue the run: rows, events and kept frames are added, times continue.
     Append,
-    /// Delete the old run and start again (only if it is a run folder).
+    /// Delete the old run's files and start again (only if it is a run folder; only the files a
+    /// session writes are deleted, anything else in the folder is left where it is).
     Replace,
 }
 
@@ -142,7 +152,7 @@ impl RunDir {
                         path: root.to_path_buf(),
                     });
                 }
-                fs::remove_dir_all(root).map_err(RecordError::io(root))?;
+                remove_run_files(root)?;
             }
             _ => {}
         }
@@ -247,6 +257,44 @@ pub fn read_meta(path: &Path) -> Result<RunMeta, RecordError> {
     })
 }
 
+/// Delete what sessions write in a run folder: `run.toml`, `track.csv`, `events.csv`, and under
+/// `frames/` the kept images (`frame_NNNNNNNNN.jpg`, with their `.part` leftovers) and `times.csv`.
+/// The `frames` folder is removed only when nothing else is left in it.
+fn remove_run_files(root: &Path) -> Result<(), RecordError> {
+    let remove = |p: &Path| match fs::remove_file(p) {
+        Err(e) if e.kind() != std::io::ErrorKind::NotFound => Err(RecordError::io(p)(e)),
+        _ => Ok(()),
+    };
+    for name in [META_FILE, TRACK_FILE, EVENTS_FILE, ".run.toml.part"] {
+        remove(&root.join(name))?;
+    }
+    let frames = root.join(FRAMES_DIR);
+    if !frames.is_dir() {
+        return Ok(());
+    }
+    for entry in fs::read_dir(&frames).map_err(RecordError::io(&frames))? {
+        let p = entry.map_err(RecordError::io(&frames))?.path();
+        let name = p.file_name().and_then(|n| n.to_str()).unwrap_or("");
+        if name == super::keep::TIMES_FILE || is_kept_frame_name(name) {
+            remove(&p)?;
+        }
+    }
+    if is_empty_dir(&frames)? {
+        fs::remove_dir(&frames).map_err(RecordError::io(&frames))?;
+    }
+    Ok(())
+}
+
+/// Whether `name` is one [`super::keep::FrameKeeper`] writes (`frame_` + 9 digits + `.jpg`, or its
+/// temporary `.jpg.part`).
+fn is_kept_frame_name(name: &str) -> bool {
+    let stem = name
+        .strip_suffix(".jpg.part")
+        .or_else(|| name.strip_suffix(".jpg"));
+    stem.and_then(|s| s.strip_prefix("frame_"))
+        .is_some_and(|d| d.len() == 9 && d.bytes().all(|b| b.is_ascii_digit()))
+}
+
 fn is_empty_dir(p: &Path) -> Result<bool, RecordError> {
     Ok(fs::read_dir(p)
         .map_err(RecordError::io(p))?
@@ -323,9 +371,23 @@ mod tests {
         });
         rd.save_meta().unwrap();
         fs::write(root.join(TRACK_FILE), "x").unwrap();
+        fs::create_dir(root.join(FRAMES_DIR)).unwrap();
+        fs::write(root.join("frames/frame_000000030.jpg"), "j").unwrap();
+        fs::write(root.join("frames/times.csv"), "file,t_s\n").unwrap();
+        // Files the session did not write stay: a video kept beside the run, a user's image.
+        fs::write(root.join("clip.mp4"), "video").unwrap();
+        fs::write(root.join("frames/screen.png"), "png").unwrap();
         let rd = RunDir::prepare(&root, Existing::Replace).unwrap();
         assert!(rd.meta.sessions.is_empty());
         assert!(!root.join(TRACK_FILE).exists());
+        assert!(!root.join(META_FILE).exists());
+        assert!(!root.join("frames/frame_000000030.jpg").exists());
+        assert!(!root.join("frames/times.csv").exists());
+        assert_eq!(fs::read_to_string(root.join("clip.mp4")).unwrap(), "video");
+        assert_eq!(
+            fs::read_to_string(root.join("frames/screen.png")).unwrap(),
+            "png"
+        );
     }
 
     #[test]
