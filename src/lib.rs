@@ -20,5 +20,6 @@ pub mod setup;
 pub mod source;
 pub mod spot;
 pub mod synth;
+pub mod textfile;
 pub mod track;
 pub mod units;

@@ -167,6 +167,14 @@ impl Outputs {
             return self;
         }
         self.inputs.push((path.to_path_buf(), identity(path)));
+        // A folder input (an image sequence) brings its files with it.
+        if let Ok(entries) = fs::read_dir(path) {
+            for p in entries.flatten().map(|e| e.path()) {
+                if p.is_file() {
+                    self.inputs.push((p.clone(), identity(&p)));
+                }
+            }
+        }
         self
     }
 

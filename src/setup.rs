@@ -275,12 +275,7 @@ impl Reader<'_> {
 impl Setup {
     /// Read and check a setup file.
     pub fn load(path: &Path) -> Result<Self, SetupError> {
-        let text = std::fs::read_to_string(path).map_err(|source| {
-            SetupError::Io(IoError {
-                path: path.to_path_buf(),
-                source,
-            })
-        })?;
+        let text = crate::textfile::read_text(path).map_err(SetupError::Io)?;
         Self::parse(&text, path)
     }
 

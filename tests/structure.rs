@@ -9,7 +9,7 @@ use std::path::{Path, PathBuf};
 
 /// Layers from the bottom: a module may use `crate::X` only when X's layer is at most its own.
 const LAYERS: &[&[&str]] = &[
-    &["units", "error", "outfile"],
+    &["units", "error", "outfile", "textfile"],
     &["frame", "setup", "physics", "lever", "synth"],
     &["source"],
     &["spot", "calib"],

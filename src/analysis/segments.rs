@@ -35,12 +35,7 @@ pub enum EventsError {
 /// Read `t_s,label` rows (a header line `t_s,label` first; `#` lines and blank lines skipped). Times
 /// must increase.
 pub fn read_events(path: &Path) -> Result<Vec<Event>, EventsError> {
-    let text = std::fs::read_to_string(path).map_err(|source| {
-        EventsError::Io(IoError {
-            path: path.to_path_buf(),
-            source,
-        })
-    })?;
+    let text = crate::textfile::read_text(path).map_err(EventsError::Io)?;
     parse_events(&text, path)
 }
 

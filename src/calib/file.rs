@@ -114,9 +114,9 @@ impl Calibration {
     /// Read a calibration file, checking its format, version and that the two matrices are finite,
     /// invertible and inverse to each other.
     pub fn load(path: &Path) -> Result<Calibration, CalibError> {
-        let text = std::fs::read_to_string(path).map_err(|source| CalibError::Read {
-            path: path.to_path_buf(),
-            source,
+        let text = crate::textfile::read_text(path).map_err(|e| CalibError::Read {
+            path: e.path,
+            source: e.source,
         })?;
         Self::from_toml(&text, path)
     }

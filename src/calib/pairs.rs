@@ -11,9 +11,9 @@ pub const COLUMNS: [&str; 4] = ["x_px", "y_px", "x_mm", "y_mm"];
 
 /// Read point pairs from a CSV file; each pair is labelled "line N" after its line in the file.
 pub fn read_pairs(path: &Path) -> Result<Vec<PointPair>, CalibError> {
-    let text = std::fs::read_to_string(path).map_err(|source| CalibError::Read {
-        path: path.to_path_buf(),
-        source,
+    let text = crate::textfile::read_text(path).map_err(|e| CalibError::Read {
+        path: e.path,
+        source: e.source,
     })?;
     parse_pairs(&text, path)
 }

@@ -26,9 +26,10 @@ pub struct AnalyzeArgs {
     /// Do not fit a linear drift within each segment.
     #[arg(long)]
     pub no_drift: bool,
-    /// Monte Carlo draws for the uncertainty propagation.
-    #[arg(long, default_value_t = 200_000)]
-    pub draws: usize,
+    /// Monte Carlo draws for the uncertainty propagation (1000 to 10 000 000).
+    #[arg(long, default_value_t = 200_000,
+          value_parser = clap::value_parser!(u64).range(1000..=10_000_000))]
+    pub draws: u64,
 }
 
 pub fn run(args: AnalyzeArgs, mut outputs: Outputs) -> anyhow::Result<()> {
@@ -47,7 +48,7 @@ pub fn run(args: AnalyzeArgs, mut outputs: Outputs) -> anyhow::Result<()> {
     };
     let opts = AnalysisOptions {
         fit_drift: !args.no_drift,
-        mc_draws: args.draws.max(1000),
+        mc_draws: usize::try_from(args.draws)?,
         ..Default::default()
     };
     let a = analysis::analyze(&samples, &setup, events.as_deref(), &opts)

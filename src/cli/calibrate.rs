@@ -8,19 +8,15 @@ use spotlever::calib::report::FitSummary;
 use spotlever::calib::{fit_calibration, grid, overlay, pairs};
 use spotlever::outfile::{Kind, Outputs};
 use spotlever::units::PixelPoint;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 #[derive(Debug, Args)]
+#[command(group(clap::ArgGroup::new("mode").required(true).args(["points", "grid"])))]
 pub struct CalibrateArgs {
     /// Image of the screen, taken by the camera in its measuring position.
     pub image: PathBuf,
     /// CSV of point pairs `x_px,y_px,x_mm,y_mm` (at least 4).
-    #[arg(
-        long,
-        value_name = "PAIRS.CSV",
-        required_unless_present = "grid",
-        conflicts_with = "grid"
-    )]
+    #[arg(long, value_name = "PAIRS.CSV")]
     pub points: Option<PathBuf>,
     /// Find a printed square grid of dark lines with this pitch, mm.
     #[arg(long, value_name = "PITCH_MM")]
@@ -40,6 +36,44 @@ pub struct CalibrateArgs {
     /// Free text stored in the calibration file.
     #[arg(long, default_value = "")]
     pub notes: String,
+}
+
+/// Default cap on the size of a screen image, megapixels (several times a large camera's; common
+/// practice, no source); `SPOTLEVER_MAX_IMAGE_MPX` raises it.
+const DEFAULT_MAX_IMAGE_MPX: u64 = 64;
+
+/// Decode a screen image after checking the size its header gives against the cap, so an image that
+/// claims a huge size is refused before memory is taken for it.
+pub fn open_image(path: &Path) -> anyhow::Result<image::DynamicImage> {
+    let reader = || -> anyhow::Result<_> {
+        Ok(image::ImageReader::open(path)
+            .with_context(|| format!("cannot open image {}", path.display()))?
+            .with_guessed_format()
+            .with_context(|| format!("cannot read image {}", path.display()))?)
+    };
+    let (w, h) = reader()?
+        .into_dimensions()
+        .with_context(|| format!("cannot read image {}", path.display()))?;
+    let max_mpx = std::env::var("SPOTLEVER_MAX_IMAGE_MPX")
+        .ok()
+        .and_then(|v| v.trim().parse::<u64>().ok())
+        .filter(|&v| v > 0)
+        .unwrap_or(DEFAULT_MAX_IMAGE_MPX);
+    let pixels = u64::from(w) * u64::from(h);
+    anyhow::ensure!(
+        pixels <= max_mpx * 1_000_000,
+        "{}: the image is {w}x{h} px ({} Mpx), above the limit of {max_mpx} Mpx for a screen image; \
+         use a smaller picture, or raise the limit with SPOTLEVER_MAX_IMAGE_MPX=<Mpx>",
+        path.display(),
+        pixels / 1_000_000
+    );
+    let mut r = reader()?;
+    let mut limits = image::Limits::default();
+    // Room for the decoded picture at up to 16 bytes a pixel (RGBA of 32-bit floats).
+    limits.max_alloc = Some(pixels.saturating_mul(16).max(1 << 29));
+    r.limits(limits);
+    r.decode()
+        .with_context(|| format!("cannot read image {}", path.display()))
 }
 
 fn parse_origin(s: &str) -> anyhow::Result<PixelPoint> {
@@ -74,8 +108,7 @@ pub fn run(args: CalibrateArgs, mut outputs: Outputs) -> anyhow::Result<()> {
         args.reject_px.is_finite() && args.reject_px > 0.0,
         "--reject-px must be a positive number of pixels"
     );
-    let img = image::open(&args.image)
-        .with_context(|| format!("cannot read image {}", args.image.display()))?;
+    let img = open_image(&args.image)?;
     let (width, height) = (img.width(), img.height());
     let name = args
         .image

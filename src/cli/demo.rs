@@ -115,7 +115,7 @@ fn demo_calibration(given: Option<PathBuf>, data: &Path) -> anyhow::Result<Calib
         return Ok(Calibration::load(p)?);
     }
     let screen = data.join("screen.png");
-    let img = image::open(&screen).with_context(|| format!("cannot read {}", screen.display()))?;
+    let img = super::calibrate::open_image(&screen)?;
     let found = grid::detect(&img.to_luma32f(), "screen.png", DEMO_PITCH_MM, None)
         .context("calibrating the demo screen image; pass a calibration with --calib FILE")?;
     let c = fit_calibration(

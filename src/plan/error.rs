@@ -37,7 +37,7 @@ pub enum PlanError {
     NoiseNeedsCalibration,
     #[error("the tracker noise must be a positive number (got {noise_mm} mm)")]
     BadNoise { noise_mm: f64 },
-    #[error("the damping must be a positive number ({0:?})")]
+    #[error("the damping must be a positive number (got {0})")]
     BadDamping(Damping),
     #[error("uncertainty propagation failed ({0}); check the design's values")]
     Propagation(PropagationError),
@@ -121,7 +121,10 @@ mod tests {
     #[test]
     fn messages_name_the_value_and_what_to_do() {
         let e = PlanError::BadDamping(Damping::Time(-5.0)).to_string();
-        assert_eq!(e, "the damping must be a positive number (Time(-5.0))");
+        assert_eq!(
+            e,
+            "the damping must be a positive number (got --damping-time -5 s)"
+        );
         let e = PlanError::BadNoise { noise_mm: -1.0 }.to_string();
         assert_eq!(e, "the tracker noise must be a positive number (got -1 mm)");
         let e = PlanError::TrackTooFewRows {

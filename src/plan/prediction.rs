@@ -15,6 +15,16 @@ pub enum Damping {
     Quality(f64),
 }
 
+impl std::fmt::Display for Damping {
+    /// As the option that gives it: `--damping-time 300 s` or `--quality-factor 40`.
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Damping::Time(t) => write!(f, "--damping-time {t} s"),
+            Damping::Quality(q) => write!(f, "--quality-factor {q}"),
+        }
+    }
+}
+
 /// The tracker's position noise, one standard deviation.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum TrackerNoise {

@@ -62,9 +62,9 @@ struct RawTrials {
 
 /// Read a trial file.
 pub fn read_trials(path: &Path) -> Result<Vec<TrialInput>, PlanError> {
-    let text = std::fs::read_to_string(path).map_err(|cause| PlanError::TrialFileRead {
-        path: path.to_path_buf(),
-        cause,
+    let text = crate::textfile::read_text(path).map_err(|e| PlanError::TrialFileRead {
+        path: e.path,
+        cause: e.source,
     })?;
     parse_trials(&text, path)
 }

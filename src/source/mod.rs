@@ -270,6 +270,17 @@ pub fn open(path: &Path, opts: &OpenOptions) -> Result<Box<dyn FrameSource>, Sou
             path: path.display().to_string(),
         });
     }
+    if let Ok(meta) = std::fs::metadata(path) {
+        if !meta.is_file() {
+            return Err(SourceError::Invalid {
+                path: path.display().to_string(),
+                message: format!(
+                    "is {}, not a video file or a folder of images; save the video to a file and give that file",
+                    crate::outfile::file_type_name(&meta)
+                ),
+            });
+        }
+    }
     if is_image_path(path) {
         return Err(SourceError::Invalid {
             path: path.display().to_string(),

@@ -8,9 +8,8 @@ use super::error::TrackFileError;
 use super::row::{TrackRow, BASE_COLUMNS};
 use crate::error::{IoError, LineError};
 use crate::spot::{SpotFix, SpotStatus};
+use crate::textfile::CappedLines;
 use crate::units::{PixelPoint, ScreenPoint, Seconds};
-use std::fs::File;
-use std::io::{BufRead, BufReader, Lines};
 use std::path::Path;
 
 /// A track file as read back.
@@ -26,8 +25,9 @@ pub struct TrackFile {
 /// Read a whole track file. Comment lines (`#`) are skipped; a truncated last line (a run killed while
 /// writing) is ignored with `truncated_tail = true`.
 pub fn read_track(path: &Path) -> Result<TrackFile, TrackFileError> {
-    let file = File::open(path).map_err(|source| io_error(path, source))?;
-    let mut lines = BufReader::new(file).lines().enumerate();
+    let mut lines = crate::textfile::capped_lines(path)
+        .map_err(TrackFileError::Io)?
+        .enumerate();
     let (header_no, header) = read_header(path, &mut lines)?;
     let columns = Columns::find(path, header_no, &header)?;
     let body: Vec<(usize, String)> = lines
@@ -64,7 +64,7 @@ fn skipped(line: &str) -> bool {
 /// The first line that is neither blank nor a comment, with its 1-based line number.
 fn read_header(
     path: &Path,
-    lines: &mut std::iter::Enumerate<Lines<BufReader<File>>>,
+    lines: &mut std::iter::Enumerate<CappedLines>,
 ) -> Result<(usize, String), TrackFileError> {
     for (i, l) in lines {
         let l = l.map_err(|source| io_error(path, source))?;
@@ -99,7 +99,11 @@ struct Columns {
 
 impl Columns {
     fn find(path: &Path, header_no: usize, header: &str) -> Result<Columns, TrackFileError> {
-        let cols: Vec<&str> = header.split(',').map(str::trim).collect();
+        // A spreadsheet may save the names quoted; the byte-order mark is dropped by the reader.
+        let cols: Vec<&str> = header
+            .split(',')
+            .map(|c| c.trim().trim_matches('"').trim())
+            .collect();
         let find = |name: &str| cols.iter().position(|c| *c == name);
         let need = |name: &str| {
             find(name).ok_or_else(|| {

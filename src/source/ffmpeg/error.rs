@@ -15,4 +15,6 @@ pub(super) enum PipeError {
     NoTimestamp,
     #[error(transparent)]
     Plane(PlaneSizeError),
+    #[error("ffmpeg sent nothing for {seconds} s and was stopped (a damaged file or a slow network path can do this); set {} to wait longer", super::pipe::STALL_ENV)]
+    Stalled { seconds: f64 },
 }

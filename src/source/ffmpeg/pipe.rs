@@ -3,8 +3,10 @@
 
 use std::io::Read;
 use std::process::ChildStdout;
-use std::sync::mpsc::{Receiver, SyncSender};
+use std::sync::mpsc::{Receiver, RecvTimeoutError, SyncSender};
+use std::sync::OnceLock;
 use std::thread::JoinHandle;
+use std::time::Duration;
 
 /// Decoded pictures waiting in the pipe reader's queue: enough to ride over a slow frame on either
 /// side, few enough that memory does not grow with the run.
@@ -13,6 +15,36 @@ pub(super) const QUEUED_PICTURES: usize = 3;
 /// Pipe buffer asked for on Linux (the default 64 KiB makes a 1080p frame take 32 round trips).
 #[cfg(target_os = "linux")]
 const PIPE_BYTES: i32 = 1 << 20;
+
+/// The environment variable that sets how long ffmpeg or ffprobe may send nothing before it is
+/// stopped, seconds.
+pub(crate) const STALL_ENV: &str = "SPOTLEVER_FFMPEG_STALL_S";
+/// Default of [`STALL_ENV`]: far longer than decoding one picture of any video takes (common
+/// practice, no source), short enough that a stuck run is noticed.
+const DEFAULT_STALL_S: f64 = 30.0;
+
+/// How long the ffmpeg programs may stay silent before they are stopped.
+pub(crate) fn stall_limit() -> Duration {
+    static LIMIT: OnceLock<Duration> = OnceLock::new();
+    *LIMIT.get_or_init(|| {
+        let s = std::env::var(STALL_ENV)
+            .ok()
+            .and_then(|v| v.trim().parse::<f64>().ok())
+            .filter(|s| s.is_finite() && *s > 0.0)
+            .unwrap_or(DEFAULT_STALL_S);
+        Duration::from_secs_f64(s.min(1e6))
+    })
+}
+
+/// The next message on `queue`, waiting at most [`stall_limit`]: `Err(Some(seconds))` on a stall,
+/// `Err(None)` when the sender has gone.
+pub(super) fn receive<T>(queue: &Receiver<T>) -> Result<T, Option<f64>> {
+    let limit = stall_limit();
+    queue.recv_timeout(limit).map_err(|e| match e {
+        RecvTimeoutError::Timeout => Some(limit.as_secs_f64()),
+        RecvTimeoutError::Disconnected => None,
+    })
+}
 
 /// What the pipe reader hands over, in order; the channel closing means the pipe ended cleanly.
 pub(super) enum Piece {

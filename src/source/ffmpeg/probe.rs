@@ -3,11 +3,13 @@
 
 use super::super::keyplan::{self, KeyFramePlan, PacketFacts};
 use super::super::{SourceError, INSTALL_FFMPEG};
+use super::pipe::{stall_limit, STALL_ENV};
 use crate::error::IoError;
 use crate::units::Seconds;
-use std::io::{BufRead, BufReader};
+use std::io::{BufRead, BufReader, Read};
 use std::path::{Path, PathBuf};
-use std::process::{Command, Stdio};
+use std::process::{Command, Output, Stdio};
+use std::time::{Duration, Instant};
 
 fn find_program(name: &str) -> Option<PathBuf> {
     let path = std::env::var_os("PATH")?;
@@ -49,15 +51,21 @@ pub(super) fn ratio(s: &str) -> Option<(i64, i64)> {
 }
 
 fn run_tool(path: &Path, tool: &str, args: &[&str]) -> Result<String, SourceError> {
-    let out = Command::new(tool)
-        .args(args)
-        .arg(path)
-        .stdin(Stdio::null())
-        .output()
+    let mut cmd = Command::new(tool);
+    cmd.args(args).arg(path);
+    let out = output_within(&mut cmd, stall_limit())
         .map_err(|e| SourceError::NeedsDecoder {
             path: path.display().to_string(),
             codec: "video".into(),
             advice: format!("cannot run {tool} ({e}); {INSTALL_FFMPEG}"),
+        })?
+        .ok_or_else(|| SourceError::Decode {
+            origin: path.display().to_string(),
+            message: format!(
+                "{tool} gave no answer within {} s and was stopped; check the file is a video on a \
+                 readable disk, or set {STALL_ENV} to wait longer",
+                stall_limit().as_secs_f64()
+            ),
         })?;
     if !out.status.success() {
         let msg = String::from_utf8_lossy(&out.stderr);
@@ -73,6 +81,54 @@ fn run_tool(path: &Path, tool: &str, args: &[&str]) -> Result<String, SourceErro
         });
     }
     Ok(String::from_utf8_lossy(&out.stdout).into_owned())
+}
+
+/// Run `cmd` to its end with its output collected, as `Command::output` does, but kill it and return
+/// `None` when it has not ended within `limit`.
+fn output_within(cmd: &mut Command, limit: Duration) -> std::io::Result<Option<Output>> {
+    let mut child = cmd
+        .stdin(Stdio::null())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()?;
+    let drain = |r: Option<Box<dyn Read + Send>>| {
+        std::thread::spawn(move || {
+            let mut bytes = Vec::new();
+            if let Some(mut r) = r {
+                let _ = r.read_to_end(&mut bytes);
+            }
+            bytes
+        })
+    };
+    let out = drain(
+        child
+            .stdout
+            .take()
+            .map(|r| Box::new(r) as Box<dyn Read + Send>),
+    );
+    let err = drain(
+        child
+            .stderr
+            .take()
+            .map(|r| Box::new(r) as Box<dyn Read + Send>),
+    );
+    let deadline = Instant::now() + limit;
+    let status = loop {
+        if let Some(s) = child.try_wait()? {
+            break s;
+        }
+        if Instant::now() >= deadline {
+            let _ = child.kill();
+            let _ = child.wait();
+            return Ok(None);
+        }
+        std::thread::sleep(Duration::from_millis(10));
+    };
+    Ok(Some(Output {
+        status,
+        stdout: out.join().unwrap_or_default(),
+        stderr: err.join().unwrap_or_default(),
+    }))
 }
 
 /// The stream's facts from `ffprobe`'s `key=value` lines; a fact missing or unreadable keeps its

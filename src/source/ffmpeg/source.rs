@@ -6,7 +6,7 @@ use super::super::pixfmt::Transfer;
 use super::super::{Delivery, FrameSource, OpenOptions, SourceError, SourceInfo, INSTALL_FFMPEG};
 use super::command::{decoder_args, demuxer_args, Input};
 use super::error::PipeError;
-use super::pipe::{spawn_pipe_reader, widen_pipe, Piece, QUEUED_PICTURES};
+use super::pipe::{receive, spawn_pipe_reader, widen_pipe, Piece, QUEUED_PICTURES};
 use super::probe::{ffmpeg_available, plan_key_frames, probe, Probe};
 use super::stderr::{spawn_stderr_reader, TimingNote};
 use crate::frame::{Channel, Frame, Plane, Roi};
@@ -229,14 +229,15 @@ impl FfmpegSource {
         let Some(pictures) = self.pictures.as_ref() else {
             return Ok(None);
         };
-        match pictures.recv() {
+        match receive(pictures) {
             Ok(Piece::Picture(b)) => Ok(Some(b)),
             Ok(Piece::Partial(n)) => Err(PipeError::Incomplete {
                 got: n,
                 want: self.frame_bytes,
             }),
             Ok(Piece::Failed(e)) => Err(PipeError::Read(e)),
-            Err(_) => Ok(None),
+            Err(Some(seconds)) => Err(PipeError::Stalled { seconds }),
+            Err(None) => Ok(None),
         }
     }
 
@@ -247,12 +248,13 @@ impl FfmpegSource {
         }
     }
 
-    fn next_pts(&mut self) -> Option<i64> {
+    fn next_pts(&mut self) -> Result<i64, PipeError> {
         loop {
-            match self.stamps.recv() {
+            match receive(&self.stamps) {
                 Ok(TimingNote::TimeBase(a, b)) => self.time_base = (a, b),
-                Ok(TimingNote::Pts(p)) => return p,
-                Err(_) => return None,
+                Ok(TimingNote::Pts(p)) => return p.ok_or(PipeError::NoTimestamp),
+                Err(Some(seconds)) => return Err(PipeError::Stalled { seconds }),
+                Err(None) => return Err(PipeError::NoTimestamp),
             }
         }
     }
@@ -311,7 +313,8 @@ impl FfmpegSource {
 
     fn finish(&mut self, read_error: Option<PipeError>) -> Option<Result<Delivery, SourceError>> {
         self.done = true;
-        let status = self.shut_down(false);
+        let stalled = matches!(read_error, Some(PipeError::Stalled { .. }));
+        let status = self.shut_down(stalled);
         let problems: Vec<String> = self
             .problems
             .lock()
@@ -362,8 +365,9 @@ impl FrameSource for FfmpegSource {
                 Ok(None) => return self.finish(None),
                 Err(e) => return self.finish(Some(e)),
             };
-            let Some(pts) = self.next_pts() else {
-                return self.finish(Some(PipeError::NoTimestamp));
+            let pts = match self.next_pts() {
+                Ok(p) => p,
+                Err(e) => return self.finish(Some(e)),
             };
             let ticks = self.probe_ticks(pts);
             let (t, index) = self.pick.pick(ticks, &self.path, &mut self.pending);
