@@ -46,10 +46,10 @@ const DEFAULT_MAX_IMAGE_MPX: u64 = 64;
 /// claims a huge size is refused before memory is taken for it.
 pub fn open_image(path: &Path) -> anyhow::Result<image::DynamicImage> {
     let reader = || -> anyhow::Result<_> {
-        Ok(image::ImageReader::open(path)
+        image::ImageReader::open(path)
             .with_context(|| format!("cannot open image {}", path.display()))?
             .with_guessed_format()
-            .with_context(|| format!("cannot read image {}", path.display()))?)
+            .with_context(|| format!("cannot read image {}", path.display()))
     };
     let (w, h) = reader()?
         .into_dimensions()

@@ -26,7 +26,7 @@ fn draw_err<E: std::fmt::Display>(path: &Path) -> impl Fn(E) -> WriteError + '_ 
 /// two points per column is returned unchanged.
 pub fn thin(points: &[(f64, f64)], (x0, x1): (f64, f64), columns: u32) -> Vec<(f64, f64)> {
     let span = x1 - x0;
-    if points.len() <= 2 * columns as usize || !(span > 0.0) {
+    if points.len() <= 2 * columns as usize || span.is_nan() || span <= 0.0 {
         return points.to_vec();
     }
     let column = |x: f64| ((x - x0) / span * f64::from(columns)).floor() as i64;
