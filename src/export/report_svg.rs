@@ -260,3 +260,45 @@ fn draw_spectrum(area: &Area, path: &Path, a: &Analysis) -> Result<(), WriteErro
         .map_err(&e)?;
     Ok(())
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Lowest and highest y of each column of `points` over `0..1` split in `columns`.
+    fn extremes(points: &[(f64, f64)], columns: u32) -> Vec<(i64, f64, f64)> {
+        let mut out: Vec<(i64, f64, f64)> = Vec::new();
+        for &(x, y) in points {
+            let c = (x * f64::from(columns)).floor() as i64;
+            match out.last_mut() {
+                Some(last) if last.0 == c => {
+                    last.1 = last.1.min(y);
+                    last.2 = last.2.max(y);
+                }
+                _ => out.push((c, y, y)),
+            }
+        }
+        out
+    }
+
+    #[test]
+    fn thinning_keeps_every_column_extremes_in_order() {
+        let n = 50_000;
+        let points: Vec<(f64, f64)> = (0..n)
+            .map(|k| {
+                let x = k as f64 / n as f64;
+                (x, (x * 400.0).sin() + 0.1 * ((k * 7919) % 13) as f64)
+            })
+            .collect();
+        let thinned = thin(&points, (0.0, 1.0), 100);
+        assert!(thinned.len() <= 200, "{}", thinned.len());
+        assert!(thinned.windows(2).all(|w| w[0].0 <= w[1].0));
+        assert_eq!(extremes(&thinned, 100), extremes(&points, 100));
+    }
+
+    #[test]
+    fn a_short_series_is_drawn_as_it_is() {
+        let points: Vec<(f64, f64)> = (0..150).map(|k| (k as f64, (k % 7) as f64)).collect();
+        assert_eq!(thin(&points, (0.0, 150.0), 100), points);
+    }
+}
