@@ -39,6 +39,7 @@ pub fn run(args: AnalyzeArgs, mut outputs: Outputs) -> anyhow::Result<()> {
     outputs.claim_in(&args.out, RESULT_FILES, "--out")?;
     let setup = Setup::load(&args.setup)?;
     let track = read_track(&args.track)?;
+    track.check_time_order(&args.track)?;
     let lever = spotlever::lever::Lever::from_setup(&setup);
     let (samples, without_position) = analysis::samples_from_track(&track, &lever)
         .with_context(|| format!("{}", args.track.display()))?;

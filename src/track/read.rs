@@ -20,6 +20,36 @@ pub struct TrackFile {
     pub has_mm: bool,
     /// Whether the last line was cut short (the writer was killed mid-line) and skipped.
     pub truncated_tail: bool,
+    /// The 1-based line (as an editor shows it) of each row in the file.
+    pub lines: Vec<usize>,
+}
+
+impl TrackFile {
+    /// An error naming the file's line of the first row whose time is not later than the row
+    /// before it (the analysis needs rows in time order).
+    pub fn check_time_order(&self, path: &Path) -> Result<(), TrackFileError> {
+        // Rows added after reading have no line: they are named by their place among the rows.
+        let line = |k: usize| self.lines.get(k).copied();
+        for (k, w) in self.rows.windows(2).enumerate() {
+            if w[1].t.0 <= w[0].t.0 {
+                let message = |before: String| {
+                    format!(
+                        "t_s = {} is not later than {} on {before}; the rows of a track must be in time order",
+                        w[1].t.0, w[0].t.0
+                    )
+                };
+                return Err(match (line(k), line(k + 1)) {
+                    (Some(a), Some(b)) => line_error(path, b, message(format!("line {a}"))),
+                    _ => TrackFileError::Parse(LineError {
+                        path: path.to_path_buf(),
+                        line: k + 2,
+                        message: message(format!("row {}", k + 1)),
+                    }),
+                });
+            }
+        }
+        Ok(())
+    }
 }
 
 /// Read a whole track file. Comment lines (`#`) are skipped; a truncated last line (a run killed while
@@ -34,9 +64,10 @@ pub fn read_track(path: &Path) -> Result<TrackFile, TrackFileError> {
         .map(|(i, l)| l.map(|l| (i + 1, l)))
         .collect::<Result<_, _>>()
         .map_err(|source| io_error(path, source))?;
-    let (rows, truncated_tail) = read_rows(path, &columns, body)?;
+    let (rows, lines, truncated_tail) = read_rows(path, &columns, body)?;
     Ok(TrackFile {
         rows,
+        lines,
         has_mm: columns.x_mm.is_some() && columns.y_mm.is_some(),
         truncated_tail,
     })
@@ -135,13 +166,14 @@ impl Columns {
     }
 }
 
-/// The rows after the header, and whether a short last line was left out.
+/// The rows after the header with their line numbers, and whether a short last line was left out.
 fn read_rows(
     path: &Path,
     columns: &Columns,
     body: Vec<(usize, String)>,
-) -> Result<(Vec<TrackRow>, bool), TrackFileError> {
+) -> Result<(Vec<TrackRow>, Vec<usize>, bool), TrackFileError> {
     let mut rows = Vec::new();
+    let mut lines = Vec::new();
     let n = body.len();
     for (k, (line_no, line)) in body.into_iter().enumerate() {
         if skipped(&line) {
@@ -154,7 +186,7 @@ fn read_rows(
         };
         if cells.cells.len() < columns.count {
             if k + 1 == n {
-                return Ok((rows, true));
+                return Ok((rows, lines, true));
             }
             return Err(cells.error(format!(
                 "{} cells, header has {}",
@@ -163,8 +195,9 @@ fn read_rows(
             )));
         }
         rows.push(cells.row(columns)?);
+        lines.push(line_no);
     }
-    Ok((rows, false))
+    Ok((rows, lines, false))
 }
 
 /// One data line's cells, with where they came from for the errors.

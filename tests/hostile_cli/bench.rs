@@ -98,6 +98,10 @@ impl Bench {
         );
         b.write("swing.csv", format!("{head}\n"));
         b.write(
+            "unordered.csv",
+            format!("{head}\n0,5.0,1,2,3,4,5,0,6,ok\n# c\n1,4.0,1,2,3,4,5,0,6,ok\n"),
+        );
+        b.write(
             "trials.toml",
             "[[trial]]\nname = \"W50\"\nmaterial = \"tungsten\"\ndiameter = \"50 um\"\nlength = \"300 mm\"\ninertia = \"1e-5 kg m^2\"\ntrack = \"swing.csv\"\n",
         );

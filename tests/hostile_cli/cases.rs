@@ -349,6 +349,20 @@ pub fn message_cases(b: &Bench) -> Vec<Case> {
         .keep(&[&b.p("badline.csv")])
         .says(&["badline.csv, line 4", "\"zero\""]),
         case(
+            "rows out of time order name the file's line",
+            &[
+                &"analyze",
+                &b.p("unordered.csv"),
+                &"--setup",
+                &setup,
+                &"--out",
+                &b.p("o14"),
+            ],
+            1,
+        )
+        .keep(&[&b.p("unordered.csv")])
+        .says(&["unordered.csv, line 4", "not later than 5 on line 2"]),
+        case(
             "calibrate without a mode names both",
             &[&"calibrate", &b.p("screen.png"), &"--out", &b.p("c2.toml")],
             2,
