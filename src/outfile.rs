@@ -65,6 +65,10 @@ pub enum OutputError {
         what: &'static str,
         role: &'static str,
     },
+    #[error(
+        "{path}: is a file, not a folder; give {role} a folder name (it is created if needed)"
+    )]
+    NotAFolder { path: PathBuf, role: &'static str },
     #[error("{path}: cannot check this output: {source}")]
     Check {
         path: PathBuf,
@@ -240,9 +244,8 @@ impl Outputs {
             if meta.is_dir() {
                 return Ok(());
             }
-            return Err(OutputError::NotAFile {
+            return Err(OutputError::NotAFolder {
                 path: path.to_path_buf(),
-                what: "a file, not a folder,",
                 role,
             });
         }
@@ -402,6 +405,16 @@ mod tests {
         Outputs::new(true)
             .claim(&video, Kind::Csv, "--out")
             .unwrap();
+        let e = o
+            .claim(&video, Kind::Folder, "--out")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("is a file, not a folder"), "{e}");
+        let e = o
+            .claim(dir.path(), Kind::Json, "--out")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("is a folder, not a regular file"), "{e}");
         let text = dir.path().join("old.csv");
         fs::write(&text, "frame,t_s\n").unwrap();
         o.claim(&text, Kind::Csv, "--csv").unwrap();

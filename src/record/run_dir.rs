@@ -250,7 +250,7 @@ pub fn tool_version() -> String {
 
 /// Read a `run.toml`.
 pub fn read_meta(path: &Path) -> Result<RunMeta, RecordError> {
-    let text = fs::read_to_string(path).map_err(RecordError::io(path))?;
+    let text = crate::textfile::read_text(path).map_err(|e| RecordError::io(path)(e.source))?;
     toml::from_str(&text).map_err(|e| RecordError::Metadata {
         path: path.to_path_buf(),
         message: format!("not a valid run metadata file: {e}"),

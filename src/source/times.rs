@@ -17,7 +17,8 @@ pub struct TimeEntry {
 /// Read a times file into a map from file name to time. Errors name the line.
 pub fn read_times(path: &Path) -> Result<HashMap<String, TimeEntry>, SourceError> {
     let shown = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| SourceError::from_io(path, e))?;
+    let text =
+        crate::textfile::read_text(path).map_err(|e| SourceError::from_io(path, e.source))?;
     let bad = |line: usize, message: String| SourceError::BadLine {
         path: shown.clone(),
         line,

@@ -130,6 +130,8 @@ pub fn fifo(path: &Path) {
 
 /// A folder with `ffmpeg` and `ffprobe` scripts: ffprobe passes through to the real one, ffmpeg
 /// decodes only the first frame and then holds its pipes open without writing (a stalled decoder).
+/// Its `slowprobe/` holds an ffprobe that never answers, `slowlist/` one that answers the stream
+/// questions but never lists the packets.
 pub fn stalling_ffmpeg(dir: &Path) -> PathBuf {
     let bin_dir = dir.join("fake-bin");
     fs::create_dir_all(&bin_dir).unwrap();
@@ -155,6 +157,13 @@ pub fn stalling_ffmpeg(dir: &Path) -> PathBuf {
         (
             "slowprobe/ffprobe",
             "#!/bin/sh\nexec sleep 60\n".to_string(),
+        ),
+        (
+            "slowlist/ffprobe",
+            format!(
+                "#!/bin/sh\ncase \"$*\" in *packet=*) exec sleep 60;; esac\nexec '{}' \"$@\"\n",
+                real("ffprobe").display()
+            ),
         ),
     ];
     for (name, text) in scripts {

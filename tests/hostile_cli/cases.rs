@@ -458,5 +458,24 @@ pub fn stall_cases(b: &Bench) -> Vec<Case> {
         .keep(&[&clip])
         .says(&["ffprobe gave no answer within 2 s"])
         .within(Duration::from_secs(4)),
+        case(
+            "ffprobe never lists the packets",
+            &[
+                &"track",
+                &clip,
+                &"--decoder",
+                &"ffmpeg",
+                &"--every",
+                &"1",
+                &"--out",
+                &b.p("stall3.csv"),
+            ],
+            1,
+        )
+        .env("PATH", path(&fake.join("slowlist")))
+        .env("SPOTLEVER_FFMPEG_STALL_S", "2")
+        .keep(&[&clip])
+        .says(&["ffprobe sent nothing for 2 s while listing the packets"])
+        .within(Duration::from_secs(4)),
     ]
 }

@@ -3,7 +3,7 @@
 
 use super::super::keyplan::{self, KeyFramePlan, PacketFacts};
 use super::super::{SourceError, INSTALL_FFMPEG};
-use super::pipe::{stall_limit, STALL_ENV};
+use super::pipe::{receive, stall_limit, STALL_ENV};
 use crate::error::IoError;
 use crate::units::Seconds;
 use std::io::{BufRead, BufReader, Read};
@@ -234,13 +234,37 @@ pub(super) fn plan_key_frames(
     let Some(out) = child.stdout.take() else {
         return Ok(None);
     };
-    let facts = BufReader::new(out)
-        .lines()
-        .map_while(Result::ok)
-        .filter_map(|line| parse_packet_line(&line));
+    // The lines come through a bounded queue so that a silent ffprobe is noticed (memory stays flat:
+    // the reader waits while the queue is full).
+    let (tx, rx) = std::sync::mpsc::sync_channel(1024);
+    std::thread::spawn(move || {
+        for line in BufReader::new(out).lines().map_while(Result::ok) {
+            if tx.send(line).is_err() {
+                return;
+            }
+        }
+    });
+    let mut stalled = None;
+    let facts = std::iter::from_fn(|| match receive(&rx) {
+        Ok(line) => Some(line),
+        Err(s) => {
+            stalled = s;
+            None
+        }
+    })
+    .filter_map(|line| parse_packet_line(&line));
     let planned = keyplan::plan(facts, p.start_pts, p.time_base, every);
     let _ = child.kill();
     let _ = child.wait();
+    if let Some(seconds) = stalled {
+        return Err(SourceError::Decode {
+            origin: path.display().to_string(),
+            message: format!(
+                "ffprobe sent nothing for {seconds} s while listing the packets and was stopped; \
+                 set {STALL_ENV} to wait longer"
+            ),
+        });
+    }
     Ok(planned)
 }
 
