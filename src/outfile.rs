@@ -10,18 +10,17 @@ use std::fs::{self, File};
 use std::io::{self, BufWriter, Read};
 use std::path::{Component, Path, PathBuf};
 
-/// What an output holds, for the check of the file it would replace.
+/// What an output holds, for the check of the file it would replace. Each format's module names its
+/// own kind (e.g. the track file's is text whose first KiB holds `frame`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Kind {
-    /// Comma-separated text.
-    Csv,
-    /// TOML text.
-    Toml,
-    /// JSON text.
-    Json,
-    /// SVG drawing (XML text).
-    Svg,
-    /// PNG image.
+    /// UTF-8 text, `what` for messages; an existing file is of this kind when its first KiB is text
+    /// holding `mark` (any text when `mark` is empty).
+    Text {
+        what: &'static str,
+        mark: &'static str,
+    },
+    /// A PNG image.
     Png,
     /// A folder the command fills.
     Folder,
@@ -30,12 +29,9 @@ pub enum Kind {
 impl Kind {
     fn name(self) -> &'static str {
         match self {
-            Kind::Csv => "CSV text",
-            Kind::Toml => "TOML text",
-            Kind::Json => "JSON text",
-            Kind::Svg => "SVG drawing",
-            Kind::Png => "PNG image",
-            Kind::Folder => "folder",
+            Kind::Text { what, .. } => what,
+            Kind::Png => "a PNG image",
+            Kind::Folder => "a folder",
         }
     }
 }
@@ -53,7 +49,7 @@ pub enum OutputError {
         first: &'static str,
         second: &'static str,
     },
-    #[error("{path}: already exists and holds {found}, not {kind}; not replacing it. Choose another name, or add --replace-any to replace it anyway")]
+    #[error("{path}: already exists and is {found}, not {kind}; not replacing it. Choose another name, or add --replace-any to replace it anyway")]
     OtherKind {
         path: PathBuf,
         found: String,
@@ -311,10 +307,12 @@ fn found_kind(head: &[u8], kind: Kind) -> Option<String> {
             Err(e) => e.error_len().is_none(),
         };
     let is_png = head.starts_with(b"\x89PNG\r\n\x1a\n");
+    let marked =
+        |mark: &str| mark.is_empty() || head.windows(mark.len()).any(|w| w == mark.as_bytes());
     let fits = match kind {
         Kind::Png => is_png,
         Kind::Folder => false,
-        Kind::Csv | Kind::Toml | Kind::Json | Kind::Svg => text,
+        Kind::Text { mark, .. } => text && marked(mark),
     };
     if fits {
         return None;
@@ -329,7 +327,7 @@ fn found_kind(head: &[u8], kind: Kind) -> Option<String> {
         } else if head.starts_with(b"\x1a\x45\xdf\xa3") {
             "a video (Matroska/WebM)"
         } else if text {
-            "text"
+            "other text"
         } else {
             "binary data"
         }
@@ -370,6 +368,15 @@ mod tests {
     use super::*;
     use std::io::Write;
 
+    const CSV: Kind = Kind::Text {
+        what: "a track file",
+        mark: "frame",
+    };
+    const TOML: Kind = Kind::Text {
+        what: "a calibration",
+        mark: "",
+    };
+
     #[test]
     fn an_input_reached_through_dots_or_a_link_is_refused() {
         let dir = tempfile::tempdir().unwrap();
@@ -379,13 +386,13 @@ mod tests {
         let mut o = Outputs::new(false);
         o.input(&clip);
         let dotted = dir.path().join("sub/../clip.mp4");
-        let e = o.claim(&dotted, Kind::Csv, "--out").unwrap_err();
+        let e = o.claim(&dotted, CSV, "--out").unwrap_err();
         assert!(matches!(e, OutputError::IsInput { .. }), "{e}");
         #[cfg(unix)]
         {
             let link = dir.path().join("link.csv");
             std::os::unix::fs::symlink(&clip, &link).unwrap();
-            let e = o.claim(&link, Kind::Csv, "--out").unwrap_err();
+            let e = o.claim(&link, CSV, "--out").unwrap_err();
             assert!(matches!(e, OutputError::IsInput { .. }), "{e}");
         }
     }
@@ -395,29 +402,28 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let mut o = Outputs::new(false);
         let a = dir.path().join("a.toml");
-        o.claim(&a, Kind::Toml, "--out").unwrap();
+        o.claim(&a, TOML, "--out").unwrap();
         let e = o.claim(&a, Kind::Png, "--overlay").unwrap_err().to_string();
         assert!(e.contains("--out") && e.contains("--overlay"), "{e}");
         let video = dir.path().join("v.csv");
         fs::write(&video, b"\0\0\0\x18ftypisom\0\0").unwrap();
-        let e = o.claim(&video, Kind::Csv, "--out").unwrap_err().to_string();
+        let e = o.claim(&video, CSV, "--out").unwrap_err().to_string();
         assert!(e.contains("a video") && e.contains("--replace-any"), "{e}");
-        Outputs::new(true)
-            .claim(&video, Kind::Csv, "--out")
-            .unwrap();
+        Outputs::new(true).claim(&video, CSV, "--out").unwrap();
         let e = o
             .claim(&video, Kind::Folder, "--out")
             .unwrap_err()
             .to_string();
         assert!(e.contains("is a file, not a folder"), "{e}");
-        let e = o
-            .claim(dir.path(), Kind::Json, "--out")
-            .unwrap_err()
-            .to_string();
+        let e = o.claim(dir.path(), TOML, "--out").unwrap_err().to_string();
         assert!(e.contains("is a folder, not a regular file"), "{e}");
         let text = dir.path().join("old.csv");
         fs::write(&text, "frame,t_s\n").unwrap();
-        o.claim(&text, Kind::Csv, "--csv").unwrap();
+        o.claim(&text, CSV, "--csv").unwrap();
+        let notes = dir.path().join("notes.csv");
+        fs::write(&notes, "shopping list\n").unwrap();
+        let e = o.claim(&notes, CSV, "--out").unwrap_err().to_string();
+        assert!(e.contains("other text, not a track file"), "{e}");
     }
 
     #[test]

@@ -23,6 +23,7 @@
 //! ```
 
 use super::{CalibError, Calibration};
+use crate::outfile::Kind;
 use nalgebra::Matrix3;
 use serde::{Deserialize, Serialize};
 use std::io::Write;
@@ -30,6 +31,11 @@ use std::path::Path;
 
 /// Identifies a calibration file.
 pub const FORMAT_NAME: &str = "spotlever-screen-calibration";
+/// What a calibration file is, for the check of a file it would replace.
+pub const CALIBRATION_KIND: Kind = Kind::Text {
+    what: "a screen calibration",
+    mark: FORMAT_NAME,
+};
 /// The schema version this build writes and reads.
 pub const FORMAT_VERSION: u32 = 1;
 

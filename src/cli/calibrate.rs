@@ -3,6 +3,7 @@
 
 use anyhow::Context;
 use clap::Args;
+use spotlever::calib::file::CALIBRATION_KIND;
 use spotlever::calib::homography::RobustOptions;
 use spotlever::calib::report::FitSummary;
 use spotlever::calib::{fit_calibration, grid, overlay, pairs};
@@ -100,7 +101,7 @@ pub fn run(args: CalibrateArgs, mut outputs: Outputs) -> anyhow::Result<()> {
     if let Some(p) = &args.points {
         outputs.input(p);
     }
-    outputs.claim(&args.out, Kind::Toml, "--out")?;
+    outputs.claim(&args.out, CALIBRATION_KIND, "--out")?;
     if let Some(o) = &args.overlay {
         outputs.claim(o, Kind::Png, "--overlay")?;
     }

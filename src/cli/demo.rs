@@ -5,6 +5,7 @@
 use anyhow::Context;
 use clap::Args;
 use spotlever::analysis::{self, read_events, AnalysisOptions, Summary};
+use spotlever::calib::file::CALIBRATION_KIND;
 use spotlever::calib::homography::RobustOptions;
 use spotlever::calib::{fit_calibration, grid, Calibration};
 use spotlever::export::{write_results, RESULT_FILES};
@@ -12,7 +13,9 @@ use spotlever::outfile::{Kind, Outputs};
 use spotlever::physics::{G_CODATA_2018, G_CODATA_2018_U};
 use spotlever::setup::Setup;
 use spotlever::source::{open, OpenOptions};
-use spotlever::track::{read_track, spot_config_for, track_to_file, RunSummary, ScreenMap};
+use spotlever::track::{
+    read_track, spot_config_for, track_to_file, RunSummary, ScreenMap, TRACK_KIND,
+};
 use std::path::{Path, PathBuf};
 
 /// Grid pitch of the demo screen, mm.
@@ -50,8 +53,12 @@ pub fn run(args: DemoArgs, mut outputs: Outputs) -> anyhow::Result<()> {
         outputs.input(p);
     }
     outputs.claim(&args.out, Kind::Folder, "--out")?;
-    outputs.claim(&args.out.join("calibration.toml"), Kind::Toml, "--out")?;
-    outputs.claim(&args.out.join("track.csv"), Kind::Csv, "--out")?;
+    outputs.claim(
+        &args.out.join("calibration.toml"),
+        CALIBRATION_KIND,
+        "--out",
+    )?;
+    outputs.claim(&args.out.join("track.csv"), TRACK_KIND, "--out")?;
     outputs.claim_in(&args.out.join("analysis"), RESULT_FILES, "--out")?;
     std::fs::create_dir_all(&args.out)
         .with_context(|| format!("cannot create the output folder {}", args.out.display()))?;

@@ -1,8 +1,10 @@
 //! `spotlever fibre`: torsion constant and shear modulus of trial fibres from the period of a test body.
 
 use clap::Args;
-use spotlever::outfile::{Kind, Outputs};
-use spotlever::plan::trial::{evaluate, period_from_track, read_trials, write_csv, PeriodSource};
+use spotlever::outfile::Outputs;
+use spotlever::plan::trial::{
+    evaluate, period_from_track, read_trials, write_csv, PeriodSource, TRIALS_CSV_KIND,
+};
 use spotlever::plan::trial_table::TrialTable;
 use std::path::PathBuf;
 
@@ -25,7 +27,7 @@ pub fn run(args: FibreArgs, mut outputs: Outputs) -> anyhow::Result<()> {
         }
     }
     if let Some(csv) = &args.csv {
-        outputs.claim(csv, Kind::Csv, "--csv")?;
+        outputs.claim(csv, TRIALS_CSV_KIND, "--csv")?;
     }
     let mut results = Vec::new();
     for t in &inputs {

@@ -5,10 +5,10 @@ use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use spotlever::calib::Calibration;
 use spotlever::frame::Channel;
-use spotlever::outfile::{Kind, Outputs};
+use spotlever::outfile::Outputs;
 use spotlever::source::{open, OpenOptions, SourceInfo, VideoDecoder};
 use spotlever::spot::Roi;
-use spotlever::track::{spot_config_for, track_to_file, ScreenMap};
+use spotlever::track::{spot_config_for, track_to_file, ScreenMap, TRACK_KIND};
 use spotlever::units::Seconds;
 use std::io::IsTerminal;
 use std::path::PathBuf;
@@ -81,7 +81,7 @@ pub fn run(args: TrackArgs, mut outputs: Outputs) -> anyhow::Result<()> {
     for p in args.calib.iter().chain(&args.times) {
         outputs.input(p);
     }
-    outputs.claim(&args.out, Kind::Csv, "--out")?;
+    outputs.claim(&args.out, TRACK_KIND, "--out")?;
     let opts = OpenOptions {
         channel: args.channel,
         every: args.every.map(Seconds),

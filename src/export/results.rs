@@ -21,10 +21,34 @@ pub enum ResultsError {
 
 /// The files [`write_results`] writes into its folder, with what each holds.
 pub const RESULT_FILES: &[(&str, Kind)] = &[
-    ("angle.csv", Kind::Csv),
-    ("segments.csv", Kind::Csv),
-    ("result.json", Kind::Json),
-    ("report.svg", Kind::Svg),
+    (
+        "angle.csv",
+        Kind::Text {
+            what: "an angle table",
+            mark: "t_s,theta_rad",
+        },
+    ),
+    (
+        "segments.csv",
+        Kind::Text {
+            what: "a segment table",
+            mark: "segment,label",
+        },
+    ),
+    (
+        "result.json",
+        Kind::Text {
+            what: "a JSON result",
+            mark: "{",
+        },
+    ),
+    (
+        "report.svg",
+        Kind::Text {
+            what: "an SVG report",
+            mark: "<svg",
+        },
+    ),
 ];
 
 /// Write the analysis files (angle.csv, segments.csv, result.json, report.svg) of `samples` analysed

@@ -208,6 +208,12 @@ pub fn evaluate(input: &TrialInput, period: Measured) -> Result<TrialResult, Pla
     })
 }
 
+/// What the trial table is, for the check of a file it would replace.
+pub const TRIALS_CSV_KIND: crate::outfile::Kind = crate::outfile::Kind::Text {
+    what: "a fibre trial table",
+    mark: "name,material",
+};
+
 /// Write trial results as CSV (one row per trial), values SI with their standard uncertainties.
 pub fn write_csv(path: &Path, results: &[TrialResult]) -> Result<(), PlanError> {
     let io = |cause: csv::Error| PlanError::CsvWrite {

@@ -22,9 +22,21 @@ pub const FRAMES_DIR: &str = "frames";
 
 /// What a run folder holds that a session writes: checked as outputs before a session starts.
 pub const RUN_FILES: &[(&str, Kind)] = &[
-    (META_FILE, Kind::Toml),
-    (TRACK_FILE, Kind::Csv),
-    (EVENTS_FILE, Kind::Csv),
+    (
+        META_FILE,
+        Kind::Text {
+            what: "run metadata",
+            mark: "spotlever",
+        },
+    ),
+    (TRACK_FILE, crate::track::TRACK_KIND),
+    (
+        EVENTS_FILE,
+        Kind::Text {
+            what: "an events table",
+            mark: "t_s",
+        },
+    ),
     (FRAMES_DIR, Kind::Folder),
 ];
 

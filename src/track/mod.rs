@@ -22,4 +22,4 @@ pub use row::TrackRow;
 pub use screen::ScreenMap;
 pub use summary::RunSummary;
 pub use to_file::{spot_config_for, track_to_file};
-pub use write::TrackWriter;
+pub use write::{TrackWriter, TRACK_KIND};

@@ -7,10 +7,17 @@
 use super::error::TrackFileError;
 use super::row::{TrackRow, BASE_COLUMNS};
 use crate::error::IoError;
+use crate::outfile::Kind;
 use std::fs::File;
 use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
+
+/// What the track file is, for the check of a file it would replace: text naming the `frame` column.
+pub const TRACK_KIND: Kind = Kind::Text {
+    what: "a track file",
+    mark: "frame",
+};
 
 /// Writes rows as they come; each row is flushed to the OS at most `flush_every` after it was written
 /// (default: immediately).

@@ -36,7 +36,7 @@ pub fn clobber_cases(b: &Bench) -> Vec<Case> {
             1,
         )
         .keep(&[&clip, &b.p("video.csv")])
-        .says(&["a video", "not CSV text", "--replace-any"]),
+        .says(&["a video", "not a track file", "--replace-any"]),
         case(
             "track onto a frame of its sequence",
             &[
