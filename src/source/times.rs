@@ -2,6 +2,7 @@
 //! times in seconds strictly increasing from row to row.
 
 use super::SourceError;
+use crate::textfile::read_text;
 use crate::units::Seconds;
 use std::collections::HashMap;
 use std::path::Path;
@@ -17,8 +18,7 @@ pub struct TimeEntry {
 /// Read a times file into a map from file name to time. Errors name the line.
 pub fn read_times(path: &Path) -> Result<HashMap<String, TimeEntry>, SourceError> {
     let shown = path.display().to_string();
-    let text =
-        crate::textfile::read_text(path).map_err(|e| SourceError::from_io(path, e.source))?;
+    let text = read_text(path).map_err(|e| SourceError::from_io(path, e.source))?;
     let bad = |line: usize, message: String| SourceError::BadLine {
         path: shown.clone(),
         line,
