@@ -1,9 +1,10 @@
 //! A torsion fibre: material, cross-section (round wire or thin ribbon) and free length, read from a TOML
 //! table of `"value ± u unit"` strings, with its torsion constant and load-bearing area.
 //!
-//! Torsion constants (common practice, no source; elastic torsion of a uniform bar):
-//! round wire of radius r: `kappa = pi G_s r^4 / (2 l)`; thin ribbon of width w and thickness t (w >> t):
-//! `kappa = G_s w t^3 / (3 l)`.
+//! Torsion constants (elastic torsion of a uniform bar): round wire of radius r,
+//! `kappa = pi G_s r^4 / (2 l)` (common practice, no source); ribbon of width w and thickness t,
+//! `kappa = k(w/t) G_s w t^3 / l` with Saint-Venant's coefficient `k` ([`super::rect_torsion`]), which is
+//! 1/3 only for a very thin ribbon.
 
 use crate::plan::materials::{self, Material};
 use crate::plan::{FibreProblem, PlanError};
@@ -316,18 +317,19 @@ pub fn section_area(s: &SectionValues) -> f64 {
     }
 }
 
-/// Torsion constant `pi G r^4 / (2 l)` (round) or `G w t^3 / (3 l)` (thin ribbon), N m/rad.
+/// Torsion constant `pi G r^4 / (2 l)` (round) or `k(w/t) G w t^3 / l` (ribbon), N m/rad.
 pub fn kappa_of(shear_modulus: f64, s: &SectionValues, length: f64) -> f64 {
     shear_modulus * section_factor(s) / length
 }
 
-/// The section's torsion factor: `kappa = G_s * factor / l` (`pi r^4 / 2` or `w t^3 / 3`), m^4.
+/// The section's torsion factor: `kappa = G_s * factor / l` (`pi r^4 / 2`, or Saint-Venant's
+/// `k(w/t) w t^3` for a ribbon), m^4.
 pub fn section_factor(s: &SectionValues) -> f64 {
     match *s {
         SectionValues::Round(d) => {
             let r = d / 2.0;
             PI * r.powi(4) / 2.0
         }
-        SectionValues::Ribbon(w, t) => w * t.powi(3) / 3.0,
+        SectionValues::Ribbon(w, t) => super::rect_torsion::torsion_constant(w, t),
     }
 }

@@ -15,6 +15,7 @@ pub mod materials;
 pub mod predict;
 pub mod prediction;
 pub mod propagate;
+pub mod rect_torsion;
 pub mod report;
 pub mod trial;
 pub mod trial_table;

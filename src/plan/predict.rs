@@ -394,14 +394,6 @@ fn warnings(setup: &Setup, fibre: &Fibre, p: &Prediction) -> Vec<String> {
             p.safety_factor
         ));
     }
-    if let Section::Ribbon { width, thickness } = fibre.section {
-        if width.value < 10.0 * thickness.value {
-            warnings.push(format!(
-                "the ribbon is only {:.1} times wider than thick; kappa = G w t^3 / (3 l) assumes a thin ribbon and overestimates kappa for thick ones",
-                width.value / thickness.value
-            ));
-        }
-    }
     for k in setup
         .without_uncertainty
         .iter()
