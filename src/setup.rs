@@ -8,6 +8,7 @@
 //! rod_mass = "10 ± 0.5 g"
 //! rod_length = "100 ± 1 mm"       # optional, default 2 x arm
 //! extra_inertia = "1e-6 ± 1e-7 kg m^2"  # optional: mirror, clamps
+//! rod_height = "0 mm"              # optional: the rod's height above the spheres' centre plane
 //! [sources]
 //! large_mass = "1.50 ± 0.01 kg"
 //! large_radius = "32 ± 0.5 mm"    # optional; used to refuse overlapping spheres
@@ -46,6 +47,8 @@ pub struct Beam {
     pub rod_mass: Measured,
     pub rod_length: Measured,
     pub extra_inertia: Measured,
+    /// The rod's height above (negative: below) the spheres' centre plane, m (default 0).
+    pub rod_height: Measured,
 }
 
 /// The large (source) spheres.
@@ -116,6 +119,7 @@ struct RawBeam {
     rod_mass: String,
     rod_length: Option<String>,
     extra_inertia: Option<String>,
+    rod_height: Option<String>,
 }
 
 #[derive(Deserialize)]
@@ -190,6 +194,10 @@ impl Reader<'_> {
             Some(t) => self.q("beam", "extra_inertia", t, Inertia)?,
             None => Measured::exact(0.0),
         };
+        let rod_height = match &raw.rod_height {
+            Some(t) => self.q("beam", "rod_height", t, Length)?,
+            None => Measured::exact(0.0),
+        };
         Ok(Beam {
             small_mass,
             small_radius,
@@ -197,6 +205,7 @@ impl Reader<'_> {
             rod_mass,
             rod_length,
             extra_inertia,
+            rod_height,
         })
     }
 
@@ -301,6 +310,20 @@ impl Setup {
             without_uncertainty: r.without_u,
             path: path.to_path_buf(),
         })
+    }
+
+    /// What the large spheres pull on (central values): small spheres, rod, and the spheres themselves.
+    pub fn pull(&self) -> crate::physics::pull::BeamPull {
+        let b = &self.beam;
+        crate::physics::pull::BeamPull {
+            small_mass: b.small_mass.value,
+            arm: b.arm.value,
+            rod_mass: b.rod_mass.value,
+            rod_length: b.rod_length.value,
+            rod_height: b.rod_height.value,
+            large_mass: self.sources.large_mass.value,
+            separation: self.sources.separation.value,
+        }
     }
 
     /// Moment of inertia of the beam, kg m^2 (central value).

@@ -91,7 +91,12 @@ fn result_agrees_with_the_closed_form_for_a_rod_of_length_two_arms() {
     let closed =
         2.0 * std::f64::consts::PI.powi(2) * big_r * theta * d * d * (m_rod / 3.0 + 2.0 * m)
             / (m * big_m * t * t);
-    let ours = a.g.value * (1.0 - a.beta);
+    // The closed form knows only the small spheres' pull at rest; the analysis divides by the whole
+    // beam's pull, less the stiffness term (`tau_0 - theta tau'`, checked against a direct integration
+    // of Newton's law in tests/analysis_rod_pull.rs), so its G is scaled back to the spheres' pull.
+    let pull = setup.pull();
+    let spheres = pull.spheres_torque_per_g(0.0);
+    let ours = a.g.value * (1.0 - a.beta) * pull.effective_torque_per_g(theta) / spheres;
     assert!(
         (ours / closed - 1.0).abs() < 1e-9,
         "{ours} vs closed form {closed}"

@@ -44,7 +44,11 @@ pub fn g_by_acceleration(
     )
     .and_then(|acc| {
         let inputs = apparatus.acceleration_inputs(acc.alpha);
-        let g_acc = uncertainty::gum(&inputs, apparatus.g_acceleration_model()).ok()?;
+        let g_acc = uncertainty::gum(
+            &inputs,
+            apparatus.g_acceleration_model(deflection.theta_g.value),
+        )
+        .ok()?;
         let th = deflection.theta_g;
         let w0 = input.omega0;
         let r = acc.alpha.value / (2.0 * w0.value * w0.value * th.value);

@@ -6,19 +6,21 @@
 //!   interpolated linearly to its time, so a linear drift cancels; `theta_G` is the mean of `|D| / 2`,
 //!   its uncertainty propagated from the equilibria's (the triples share segments, so the mean is
 //!   written as one linear combination of the equilibria). Then `kappa = I omega_0^2` and
-//!   [`physics::g_from_deflection`].
+//!   `G = kappa theta_G / (tau_0 - theta_G tau')`, with the torque per unit G on the whole beam
+//!   (small spheres, far spheres and rod) and its change as the beam turns ([`BeamPull`]).
 //! - Initial angular acceleration: at each move the torque changes by `2 tau`, so the beam's angular
-//!   acceleration jumps by `alpha = 2 tau / I` ([`physics::initial_acceleration`]). The acceleration
+//!   acceleration jumps by `alpha = 2 G (tau_0 - theta_G tau') / I`. The acceleration
 //!   just after the move comes from a fit of the oscillator (decay and frequency held at the fitted
 //!   values, level and phase free) on the early part of the new segment, extrapolated to the move;
-//!   the acceleration just before from the same fit on the late part of the old segment. Then
-//!   [`physics::g_from_acceleration`]. This uses the inertia but not the torsion constant, and data
+//!   the acceleration just before from the same fit on the late part of the old segment. This uses
+//!   the inertia but not the torsion constant, and data
 //!   near the moves rather than the settled equilibria.
 
 use super::damped::{fit_fixed_frequency, DampedFit};
 use super::uncertainty::Input;
 use crate::lever::Lever;
 use crate::physics;
+use crate::physics::pull::BeamPull;
 use crate::setup::Setup;
 use crate::units::{Measured, Radians};
 
@@ -222,6 +224,8 @@ pub struct Apparatus {
     pub zero: Measured,
     /// The nominal lever (`L`, `x0` at their values, and the scale's shape).
     pub lever: Lever,
+    /// The rod's height above the spheres' plane, m (central value; it enters only the rod's pull).
+    pub rod_height: f64,
 }
 
 impl Apparatus {
@@ -240,7 +244,32 @@ impl Apparatus {
             screen_distance: setup.lever.screen_distance,
             zero: setup.lever.zero,
             lever: Lever::from_setup(setup),
+            rod_height: b.rod_height.value,
         }
+    }
+
+    /// The parts the spheres pull on, from the first entries of [`Apparatus::beam_inputs`].
+    pub fn pull_of(&self, x: &[f64]) -> BeamPull {
+        BeamPull {
+            small_mass: x[0],
+            arm: x[2],
+            rod_mass: x[3],
+            rod_length: x[4],
+            rod_height: self.rod_height,
+            large_mass: x[6],
+            separation: x[7],
+        }
+    }
+
+    /// The nominal parts the spheres pull on.
+    pub fn pull(&self) -> BeamPull {
+        self.pull_of(
+            &self
+                .beam_inputs()
+                .iter()
+                .map(|i| i.value)
+                .collect::<Vec<_>>(),
+        )
     }
 
     /// The beam's and the sources' inputs (the first entries of both models' inputs).
@@ -274,7 +303,7 @@ impl Apparatus {
 
     /// The deflection model: G from [`Apparatus::deflection_inputs`]; `x_mid` is the scale reading
     /// midway between the two positions' equilibria (held fixed).
-    pub fn g_deflection_model(&self, x_mid: f64) -> impl Fn(&[f64]) -> f64 {
+    pub fn g_deflection_model(&self, x_mid: f64) -> impl Fn(&[f64]) -> f64 + '_ {
         let shape = self.lever.shape;
         move |x: &[f64]| {
             let k = BEAM_INPUTS;
@@ -288,7 +317,7 @@ impl Apparatus {
             let inertia = inertia_of(x);
             let omega0 = 2.0 * std::f64::consts::PI / x[k + 3];
             let kappa = physics::torsion_constant(inertia, omega0);
-            physics::g_from_deflection(kappa, theta, x[0], x[6], x[2], x[7])
+            kappa * theta / self.pull_of(x).effective_torque_per_g(theta)
         }
     }
 
@@ -311,13 +340,15 @@ impl Apparatus {
 
     /// The acceleration model: G from [`Apparatus::acceleration_inputs`]. The angle scale goes as
     /// `1 / L` (the small-angle lever), so an acceleration read with the nominal `L_nom` is
-    /// `alpha L_nom / L`.
-    pub fn g_acceleration_model(&self) -> impl Fn(&[f64]) -> f64 {
+    /// `alpha L_nom / L`. `theta_g` is the measured deflection, for the pull on the turned beam
+    /// ([`BeamPull::effective_torque_per_g`]; its uncertainty is negligible beside alpha's there).
+    pub fn g_acceleration_model(&self, theta_g: f64) -> impl Fn(&[f64]) -> f64 + '_ {
         let l_nom = self.screen_distance.value;
         move |x: &[f64]| {
             let k = BEAM_INPUTS;
             let alpha = x[k + 1] * l_nom / x[k];
-            physics::g_from_acceleration(alpha, x[0], x[6], x[2], x[7], inertia_of(x))
+            let torque = self.pull_of(x).effective_torque_per_g(theta_g);
+            alpha * inertia_of(x) / (2.0 * torque)
         }
     }
 }

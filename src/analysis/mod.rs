@@ -36,7 +36,9 @@ pub use clean::samples_from_track;
 pub use error::AnalysisError;
 pub use segments::{read_events, Event, EventsError};
 pub use summary::Summary;
-pub use types::{AccelerationResult, Analysis, AnalysisOptions, Sample, SegmentResult};
+pub use types::{
+    AccelerationResult, Analysis, AnalysisOptions, PullCorrections, Sample, SegmentResult,
+};
 
 use crate::physics;
 use crate::setup::Setup;
@@ -106,6 +108,7 @@ pub fn analyze(
         inertia: beam.inertia,
         kappa: beam.kappa,
         beta: beam.beta,
+        pull: pull_corrections(&apparatus, deflection.theta_g.value),
         codata_relative_difference: g.value / physics::G_CODATA_2018 - 1.0,
         deflection,
         g,
@@ -113,4 +116,14 @@ pub fn analyze(
         acceleration,
         warnings,
     })
+}
+
+/// The rod's share and the stiffness's share of the torque, at the measured deflection `theta`.
+fn pull_corrections(apparatus: &Apparatus, theta: f64) -> PullCorrections {
+    let pull = apparatus.pull();
+    let total = pull.torque_per_g(0.0);
+    PullCorrections {
+        rod: pull.rod_torque_per_g(0.0) / pull.spheres_torque_per_g(0.0),
+        stiffness: theta * pull.stiffness_per_g() / total,
+    }
 }

@@ -55,6 +55,12 @@ impl<'a> Summary<'a> {
             f,
             "I = {:.4e} ± {:.1e} kg m^2, kappa = {:.4e} ± {:.1e} N m/rad, beta = {:.4}",
             a.inertia.value, a.inertia.u, a.kappa.value, a.kappa.u, a.beta
+        )?;
+        writeln!(
+            f,
+            "pull on the rod: +{:.2} % of the small spheres' torque; spheres' stiffness: -{:.3} % of the torque",
+            100.0 * a.pull.rod,
+            100.0 * a.pull.stiffness
         )
     }
 

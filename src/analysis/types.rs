@@ -114,6 +114,8 @@ pub struct Analysis {
     pub deflection: gravity::Deflection,
     /// Far-sphere correction `beta`.
     pub beta: f64,
+    /// The pull on the rod and the spheres' stiffness, as fractions of the torque.
+    pub pull: PullCorrections,
     /// G by deflection, first-order (GUM) with its budget.
     pub g: uncertainty::Gum,
     /// G by deflection, Monte Carlo (JCGM 101).
@@ -122,4 +124,13 @@ pub struct Analysis {
     /// `G / G_CODATA2018 - 1`.
     pub codata_relative_difference: f64,
     pub warnings: Vec<String>,
+}
+
+/// How much the parts of the pull beyond the small spheres change the torque that G divides by.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct PullCorrections {
+    /// The rod's pull as a fraction of the small spheres' (far spheres included in both).
+    pub rod: f64,
+    /// `theta_G tau' / tau_0`: the share of the torque taken off for the spheres' stiffness.
+    pub stiffness: f64,
 }

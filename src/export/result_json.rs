@@ -102,6 +102,10 @@ pub fn result_value(a: &Analysis) -> Value {
         "theta_scatter_rad": a.deflection.scatter.map(finite),
         "drift_cancelled_by_triples": a.deflection.triples,
         "beta": finite(a.beta),
+        "pull_corrections": json!({
+            "rod_over_spheres": finite(a.pull.rod),
+            "stiffness_over_torque": finite(a.pull.stiffness),
+        }),
         "budget": budget,
         "segments": segments,
         "moves_s": a.moves,

@@ -10,6 +10,7 @@
 use crate::calib::Calibration;
 use crate::lever::Lever;
 use crate::physics;
+use crate::physics::pull::BeamPull;
 use crate::plan::fibre::{kappa_of, section_area, Fibre, Section};
 use crate::plan::propagate::{propagate, Contribution, Propagated};
 use crate::plan::PlanError;
@@ -46,6 +47,7 @@ pub fn predict(
     let model = Model {
         n_fixed,
         section: fibre.section,
+        rod_height: setup.beam.rod_height.value,
     };
     let nominal = propagate_model(&inputs, &model)?;
     let travel = match setup.lever.scale {
@@ -153,6 +155,8 @@ struct Model {
     /// How many inputs come before the fibre section's dimensions.
     n_fixed: usize,
     section: Section,
+    /// The rod's height above the spheres' plane, m.
+    rod_height: f64,
 }
 
 impl Model {
@@ -167,11 +171,22 @@ impl Model {
             x[EXTRA_INERTIA],
         );
         let g = x[x.len() - 1];
-        let torque =
-            physics::gravitational_torque(g, x[SMALL_MASS], x[LARGE_MASS], x[ARM], x[SEPARATION]);
+        let pull = BeamPull {
+            small_mass: x[SMALL_MASS],
+            arm: x[ARM],
+            rod_mass: x[ROD_MASS],
+            rod_length: x[ROD_LENGTH],
+            rod_height: self.rod_height,
+            large_mass: x[LARGE_MASS],
+            separation: x[SEPARATION],
+        };
+        // The separation is given with the beam at rest, so the fibre holds the pull there exactly.
+        let torque = g * pull.torque_per_g(0.0);
         let sec = self.section.with_values(&x[self.n_fixed..x.len() - 1]);
         let kappa = kappa_of(x[SHEAR_MODULUS], &sec, x[FIBRE_LENGTH]);
         let theta = torque / kappa;
+        // The period sees the fibre's constant less the spheres' stiffness.
+        let kappa_seen = kappa - g * pull.stiffness_per_g();
         let travel = |shape| {
             let lever = Lever {
                 distance_m: x[SCREEN_DISTANCE],
@@ -184,7 +199,7 @@ impl Model {
             inertia,
             torque,
             kappa,
-            period: physics::period(inertia, kappa),
+            period: physics::period(inertia, kappa_seen),
             theta,
             travel_flat_m: travel(ScaleShape::Flat),
             travel_curved_m: travel(ScaleShape::Curved),

@@ -106,18 +106,16 @@ impl Default for MotionConfig {
 
 impl MotionConfig {
     /// An apparatus from a setup file (central values): inertia from the beam, `kappa` from the
-    /// natural period `period_s`, torque from `g` and the source geometry
-    /// ([`physics::gravitational_torque`]).
+    /// natural period `period_s` (the measured constant, the fibre's less the spheres' stiffness), and
+    /// the torque that gives the equilibria of the linearised pull on the whole beam
+    /// ([`physics::pull::BeamPull`]): with the fibre's `kappa_f = kappa + G tau'`, the equilibrium
+    /// `theta = G tau_0 / kappa_f`, held here by a constant torque `kappa theta`.
     pub fn from_setup(setup: &Setup, g: f64, period_s: f64, damping_time: f64) -> Self {
         let inertia = setup.inertia();
         let kappa = physics::torsion_constant(inertia, 2.0 * PI / period_s);
-        let torque = physics::gravitational_torque(
-            g,
-            setup.beam.small_mass.value,
-            setup.sources.large_mass.value,
-            setup.beam.arm.value,
-            setup.sources.separation.value,
-        );
+        let pull = setup.pull();
+        let kappa_fibre = kappa + g * pull.stiffness_per_g();
+        let torque = kappa * g * pull.torque_per_g(0.0) / kappa_fibre;
         Self {
             inertia,
             kappa,

@@ -5,6 +5,8 @@
 //! mass `M`, each at centre distance `d` from its small sphere when the beam is at equilibrium.
 //! All quantities SI.
 
+pub mod pull;
+
 use std::f64::consts::PI;
 
 /// Moment of inertia of the beam about the fibre: rod `m_rod l^2 / 12`, two spheres `m (R^2 + 2 r^2 / 5)`
