@@ -1,8 +1,7 @@
 //! The planner's period and deflection against what the analyzer finds on a synthetic run of the same
-//! design (motion simulated with CODATA 2018 G from the plan's own torsion constant, sampled with noise).
+//! design (motion simulated with the plan's torque for CODATA 2018 G and the plan's own torsion constant, sampled with noise).
 
 use spotlever::analysis::{analyze, AnalysisOptions, Event, Sample};
-use spotlever::physics;
 use spotlever::plan::fibre::Fibre;
 use spotlever::plan::predict::{predict, PlanOptions};
 use spotlever::setup::Setup;
@@ -43,13 +42,9 @@ fn analyzer_finds_the_planned_period_and_deflection() {
         inertia,
         kappa,
         damping_time: 1500.0,
-        torque: physics::gravitational_torque(
-            physics::G_CODATA_2018,
-            setup.beam.small_mass.value,
-            setup.sources.large_mass.value,
-            setup.beam.arm.value,
-            setup.sources.separation.value,
-        ),
+        // The planner's torque: the pull on the whole beam, rod included (checked against a direct
+        // integration of Newton's law in tests/analysis_rod_pull.rs).
+        torque: plan.torque_n_m.value,
         initial_position: MassPosition::A,
         moves: vec![
             MassMove {

@@ -185,8 +185,6 @@ impl Model {
         let sec = self.section.with_values(&x[self.n_fixed..x.len() - 1]);
         let kappa = kappa_of(x[SHEAR_MODULUS], &sec, x[FIBRE_LENGTH]);
         let theta = torque / kappa;
-        // The period sees the fibre's constant less the spheres' stiffness.
-        let kappa_seen = kappa - g * pull.stiffness_per_g();
         let travel = |shape| {
             let lever = Lever {
                 distance_m: x[SCREEN_DISTANCE],
@@ -199,7 +197,7 @@ impl Model {
             inertia,
             torque,
             kappa,
-            period: physics::period(inertia, kappa_seen),
+            period: physics::period(inertia, kappa),
             theta,
             travel_flat_m: travel(ScaleShape::Flat),
             travel_curved_m: travel(ScaleShape::Curved),
