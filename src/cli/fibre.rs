@@ -45,7 +45,24 @@ pub fn run(args: FibreArgs, mut outputs: Outputs) -> anyhow::Result<()> {
                 p
             }
         };
-        results.push(evaluate(t, period)?);
+        let r = evaluate(t, period)?;
+        match &r.stress {
+            Some(s) => match s.warning(&t.name) {
+                Some(w) => eprintln!("warning: {w}"),
+                None => println!(
+                    "{}: fibre stress {:.0} MPa of {:.0} MPa tensile strength (safety factor {:.1})",
+                    t.name,
+                    s.stress_pa / 1e6,
+                    s.tensile_strength_pa / 1e6,
+                    s.safety_factor
+                ),
+            },
+            None => println!(
+                "{}: no load_mass given, so the fibre's stress is not checked; add load_mass (the test body's mass) to the trial",
+                t.name
+            ),
+        }
+        results.push(r);
     }
     print!("{}", TrialTable(&results));
     if let Some(csv) = &args.csv {

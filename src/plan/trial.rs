@@ -52,6 +52,8 @@ pub struct TrialResult {
     pub expected_shear_modulus_pa: f64,
     /// Measured over expected shear modulus.
     pub ratio_to_table: f64,
+    /// The fibre's stress under the trial's `load_mass` (absent when no load was given).
+    pub stress: Option<crate::plan::stress::StressCheck>,
 }
 
 #[derive(Deserialize)]
@@ -205,6 +207,9 @@ pub fn evaluate(input: &TrialInput, period: Measured) -> Result<TrialResult, Pla
         shear_modulus_pa: g,
         expected_shear_modulus_pa: f.shear_modulus.value,
         ratio_to_table: g.value / f.shear_modulus.value,
+        stress: f
+            .load_mass
+            .map(|m| crate::plan::stress::check_load(f, m.value)),
     })
 }
 
