@@ -2,11 +2,11 @@
 
 use clap::Args;
 use spotlever::outfile::Outputs;
-use spotlever::plan::trial::{
-    evaluate, period_from_track, read_trials, write_csv, PeriodSource, TRIALS_CSV_KIND,
-};
+use spotlever::plan::segment_periods::periods_from_track;
+use spotlever::plan::trial::{evaluate, read_trials, write_csv, PeriodSource, TRIALS_CSV_KIND};
 use spotlever::plan::trial_table::TrialTable;
-use std::path::PathBuf;
+use spotlever::units::Measured;
+use std::path::{Path, PathBuf};
 
 #[derive(Debug, Args)]
 pub struct FibreArgs {
@@ -33,17 +33,7 @@ pub fn run(args: FibreArgs, mut outputs: Outputs) -> anyhow::Result<()> {
     for t in &inputs {
         let period = match &t.period {
             PeriodSource::Given(p) => *p,
-            PeriodSource::Track(path) => {
-                let p = period_from_track(path)?;
-                println!(
-                    "{}: period fitted from {}: {:.3} ± {:.3} s",
-                    t.name,
-                    path.display(),
-                    p.value,
-                    p.u
-                );
-                p
-            }
+            PeriodSource::Track(path) => track_period(&t.name, path)?,
         };
         let r = evaluate(t, period)?;
         match &r.stress {
@@ -70,4 +60,44 @@ pub fn run(args: FibreArgs, mut outputs: Outputs) -> anyhow::Result<()> {
         println!("wrote {}", csv.display());
     }
     Ok(())
+}
+
+/// The period of a trial's track: one per segment between the moves found in it, printed, with a
+/// warning when segments disagree; the trial uses their weighted mean.
+fn track_period(name: &str, path: &Path) -> anyhow::Result<Measured> {
+    let p = periods_from_track(path)?;
+    for (i, s) in p.segments.iter().enumerate() {
+        match &s.period {
+            Ok(m) => println!(
+                "{name}: segment {} ({:.0}-{:.0} s) of {}: period {:.3} ± {:.3} s",
+                i + 1,
+                s.start_s,
+                s.end_s,
+                path.display(),
+                m.value,
+                m.u
+            ),
+            Err(why) => println!(
+                "{name}: segment {} ({:.0}-{:.0} s) not fitted: {why}",
+                i + 1,
+                s.start_s,
+                s.end_s
+            ),
+        }
+    }
+    for &(i, j) in &p.disagreeing {
+        eprintln!(
+            "warning: {name}: the periods of segments {} and {} of {} disagree by more than twice their combined uncertainty; the body may have been disturbed or the fibre is still relaxing: check the track, or give the period of one segment",
+            i + 1,
+            j + 1,
+            path.display()
+        );
+    }
+    if p.segments.len() > 1 {
+        println!(
+            "{name}: period used (weighted mean of the segments): {:.3} ± {:.3} s",
+            p.period.value, p.period.u
+        );
+    }
+    Ok(p.period)
 }

@@ -17,6 +17,7 @@ pub mod prediction;
 pub mod propagate;
 pub mod rect_torsion;
 pub mod report;
+pub mod segment_periods;
 pub mod stress;
 pub mod trial;
 pub mod trial_table;

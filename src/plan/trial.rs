@@ -271,18 +271,25 @@ pub fn write_csv(path: &Path, results: &[TrialResult]) -> Result<(), PlanError> 
 /// depend on the scale) goes through the analyzer's spectrum for a starting frequency and its damped
 /// sinusoid fit, `T_0 = 2 pi / omega_0`. A linear drift is fitted alongside.
 pub fn period_from_track(path: &Path) -> Result<Measured, PlanError> {
-    use crate::analysis::{damped, period};
     let at = || path.to_path_buf();
     let track = crate::track::read_track(path)
         .map_err(|cause| PlanError::TrackRead { path: at(), cause })?;
     let (t, y) = swing_of(&track);
+    fit_period(path, &t, &y)
+}
+
+/// The natural period of the free swing `(t, y)` (one stretch of a track, `path` names it in
+/// messages): the spectrum's starting frequency, then the damped sinusoid fit.
+pub(crate) fn fit_period(path: &Path, t: &[f64], y: &[f64]) -> Result<Measured, PlanError> {
+    use crate::analysis::{damped, period};
+    let at = || path.to_path_buf();
     if t.len() < MIN_TRACK_ROWS {
         return Err(PlanError::TrackTooFewRows {
             path: at(),
             rows: t.len(),
         });
     }
-    let spec = period::spectrum(&t, &y, &period::SpectrumOptions::default())
+    let spec = period::spectrum(t, y, &period::SpectrumOptions::default())
         .map_err(|cause| PlanError::TrackSpectrum { path: at(), cause })?;
     let (t0, t1) = (t[0], t[t.len() - 1]);
     if t1 - t0 < 1.5 * spec.period() {
@@ -293,8 +300,8 @@ pub fn period_from_track(path: &Path) -> Result<Measured, PlanError> {
         });
     }
     let fit = damped::fit_damped(
-        &t,
-        &y,
+        t,
+        y,
         t0,
         0.5 * (t0 + t1),
         2.0 * std::f64::consts::PI / spec.period(),
@@ -311,7 +318,7 @@ pub fn period_from_track(path: &Path) -> Result<Measured, PlanError> {
 
 /// Times and positions along the scale of the rows with a finite spot position: `x_mm` when the track
 /// has screen positions, otherwise the image's `x_px`.
-fn swing_of(track: &crate::track::TrackFile) -> (Vec<f64>, Vec<f64>) {
+pub(crate) fn swing_of(track: &crate::track::TrackFile) -> (Vec<f64>, Vec<f64>) {
     let mut t = Vec::new();
     let mut y = Vec::new();
     for r in &track.rows {
