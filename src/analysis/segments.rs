@@ -1,5 +1,5 @@
-//! Segments between mass moves: read from an events file (`t_s,label`, each row starts a segment) or
-//! found in the trace.
+//! Mass moves found in the trace (when no events file is given), and the refinement of a move's time
+//! from the data (for found and logged moves alike).
 //!
 //! Finding the moves uses the equation of motion: with the torque constant between moves,
 //! `theta_eq(t) = theta + (theta'' + 2 gamma theta') / omega_0^2` is constant, so it is a step function
@@ -12,103 +12,6 @@
 //! period in each window cancels the ripple the quadratic's bias leaves at the oscillation frequency.
 //! Moves closer than one period to the ends of the trace, or to each other, are not found.
 //! [`refine_move`] then sharpens each time with the exact step response of the oscillator.
-
-use crate::error::{IoError, LineError};
-use std::path::Path;
-
-/// A row of an events file: a segment starts at `t` (s).
-#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
-pub struct Event {
-    pub t: f64,
-    pub label: String,
-}
-
-/// Problems reading an events file.
-#[derive(Debug, thiserror::Error)]
-pub enum EventsError {
-    #[error(transparent)]
-    Io(#[from] IoError),
-    #[error(transparent)]
-    Parse(#[from] LineError),
-}
-
-/// Read `t_s,label` rows (a header line `t_s,label` first; `#` lines and blank lines skipped). Times
-/// must increase.
-pub fn read_events(path: &Path) -> Result<Vec<Event>, EventsError> {
-    let text = std::fs::read_to_string(path).map_err(|source| {
-        EventsError::Io(IoError {
-            path: path.to_path_buf(),
-            source,
-        })
-    })?;
-    parse_events(&text, path)
-}
-
-/// Parse events text; `path` is only used in messages.
-pub fn parse_events(text: &str, path: &Path) -> Result<Vec<Event>, EventsError> {
-    let err = |line: usize, message: String| {
-        EventsError::Parse(LineError {
-            path: path.to_path_buf(),
-            line,
-            message,
-        })
-    };
-    let mut out: Vec<Event> = Vec::new();
-    let mut header_seen = false;
-    for (i, raw) in text.lines().enumerate() {
-        let line_no = i + 1;
-        let l = raw.trim();
-        if l.is_empty() || l.starts_with('#') {
-            continue;
-        }
-        let cells: Vec<&str> = l.splitn(2, ',').map(str::trim).collect();
-        if !header_seen {
-            if cells.first() != Some(&"t_s") {
-                return Err(err(
-                    line_no,
-                    format!("expected the header 't_s,label', found {l:?}"),
-                ));
-            }
-            header_seen = true;
-            continue;
-        }
-        let t: f64 = cells[0]
-            .parse()
-            .ok()
-            .filter(|v: &f64| v.is_finite())
-            .ok_or_else(|| {
-                err(
-                    line_no,
-                    format!(
-                        "column 't_s': {:?} is not a finite number of seconds",
-                        cells[0]
-                    ),
-                )
-            })?;
-        if let Some(prev) = out.last() {
-            if t <= prev.t {
-                return Err(err(
-                    line_no,
-                    format!(
-                        "time {t} s is not after the previous event ({} s); list events in time order",
-                        prev.t
-                    ),
-                ));
-            }
-        }
-        out.push(Event {
-            t,
-            label: cells.get(1).copied().unwrap_or("").to_string(),
-        });
-    }
-    if !header_seen {
-        return Err(err(
-            1,
-            "empty file: expected a header line 't_s,label'".into(),
-        ));
-    }
-    Ok(out)
-}
 
 /// The step detector's output, kept for the report.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -295,8 +198,10 @@ fn pick_moves(grid_t: &[f64], step: &[f64], threshold: f64, dg: f64, period: f64
 /// Refine a move's time near `guess` using the samples in `[lo, hi]` (kept within one period of it):
 /// the trace there is fitted as a free oscillation plus the exact response to a torque step at `t_m`,
 /// `Delta (1 - e^(-gamma s) (cos omega_d s + (gamma / omega_d) sin omega_d s))`, `s = t - t_m`, all
-/// amplitudes linear; `t_m` is scanned over a tenth of a period either side of `guess` and the lowest
-/// residual is refined by a parabola. `None` when there are too few samples.
+/// amplitudes linear; `t_m` is scanned over `reach` periods either side of `guess` (in steps of a
+/// 400th of a period) and the lowest residual is refined by a parabola. `None` when there are too few
+/// samples, or when the lowest residual lies at the end of the scan (the step is not in reach).
+#[allow(clippy::too_many_arguments)]
 pub fn refine_move(
     t: &[f64],
     y: &[f64],
@@ -305,6 +210,7 @@ pub fn refine_move(
     hi: f64,
     gamma: f64,
     omega_d: f64,
+    reach: f64,
 ) -> Option<f64> {
     if omega_d.is_nan() || omega_d <= 0.0 {
         return None;
@@ -349,7 +255,8 @@ pub fn refine_move(
         )
     };
     let step = period / 400.0;
-    let cand: Vec<(f64, f64)> = (-40..=40)
+    let half = (reach * 400.0).round().max(1.0) as i64;
+    let cand: Vec<(f64, f64)> = (-half..=half)
         .map(|k| guess + k as f64 * step)
         .filter(|&tm| tm > ts[0] && tm < ts[ts.len() - 1])
         .filter_map(|tm| rss_at(tm).map(|r| (tm, r)))
@@ -367,6 +274,9 @@ pub fn refine_move(
                 (bk, bv)
             }
         });
+    if kb == 0 || kb + 1 == cand.len() {
+        return None;
+    }
     let mut tm = cand[kb].0;
     if kb > 0 && kb + 1 < cand.len() {
         let (r0, r1, r2) = (cand[kb - 1].1, cand[kb].1, cand[kb + 1].1);
@@ -376,27 +286,4 @@ pub fn refine_move(
         }
     }
     Some(tm)
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn events_file_errors_name_the_line() {
-        let p = Path::new("ev.csv");
-        let ok = parse_events("t_s,label\n# comment\n0,A\n1200.5,B\n", p).unwrap();
-        assert_eq!(ok.len(), 2);
-        assert_eq!(ok[1].label, "B");
-        let e = parse_events("t_s,label\n0,A\nsoon,B\n", p)
-            .unwrap_err()
-            .to_string();
-        assert!(e.contains("line 3") && e.contains("soon"), "{e}");
-        let e = parse_events("t_s,label\n10,A\n5,B\n", p)
-            .unwrap_err()
-            .to_string();
-        assert!(e.contains("line 3") && e.contains("time order"), "{e}");
-        let e = parse_events("time,label\n", p).unwrap_err().to_string();
-        assert!(e.contains("line 1"), "{e}");
-    }
 }
