@@ -184,10 +184,8 @@ pub fn fit_segments(
         }
         if !seg.rejected.is_empty() {
             warnings.push(format!(
-                "segment {} ({:.1} s to {:.1} s): {} stray samples (residual over {} robust standard deviations) left out of the fit",
-                k + 1,
-                seg.start,
-                seg.end,
+                "{}: {} stray samples (residual over {} robust standard deviations) left out of the fit",
+                seg_name(k, seg),
                 seg.rejected.len(),
                 robust::CLIP_SIGMAS
             ));
