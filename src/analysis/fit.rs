@@ -386,7 +386,10 @@ fn weighted_mean(
     v: &[Measured],
     what: &'static str,
 ) -> Result<(Measured, Option<f64>), AnalysisError> {
-    if v.is_empty() || v.iter().any(|m| m.u.is_nan() || m.u <= 0.0 || m.u.is_infinite()) {
+    if v.is_empty()
+        || v.iter()
+            .any(|m| m.u.is_nan() || m.u <= 0.0 || m.u.is_infinite())
+    {
         return Err(AnalysisError::ZeroUncertainty { what });
     }
     let sw: f64 = v.iter().map(|m| 1.0 / (m.u * m.u)).sum();

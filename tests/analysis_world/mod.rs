@@ -25,6 +25,9 @@ pub struct World {
     pub move_duration: f64,
     /// Angle at the start relative to the first equilibrium, rad.
     pub initial_offset: f64,
+    /// Swings stopped by hand: `(k, a)` puts the beam at rest `a` rad from its new equilibrium as
+    /// move `k` (0-based) ends, leaving a quiet segment of amplitude `a`.
+    pub calm: Vec<(usize, f64)>,
     /// Length of the run, s, and the sampling interval, s.
     pub length: f64,
     pub dt: f64,
@@ -42,6 +45,7 @@ impl World {
             moves: (1..5).map(|k| k as f64 * 3.0 * period).collect(),
             move_duration: 0.0,
             initial_offset: 0.0,
+            calm: Vec::new(),
             length: 15.0 * period,
             dt: 2.0,
             noise,
@@ -80,6 +84,7 @@ impl World {
         let normal = Normal::new(0.0, self.noise.max(1e-300)).unwrap();
         let mut out = Vec::with_capacity(n);
         let mut t = 0.0;
+        let mut calm = self.calm.clone();
         for k in 0..n {
             let e = if self.noise > 0.0 {
                 normal.sample(&mut rng)
@@ -104,6 +109,15 @@ impl World {
                 th += h / 6.0 * (k1t + 2.0 * k2t + 2.0 * k3t + k4t);
                 om += h / 6.0 * (k1o + 2.0 * k2o + 2.0 * k3o + k4o);
                 t += h;
+                calm.retain(|&(j, a)| {
+                    let end = self.moves[j] + self.move_duration;
+                    if t < end {
+                        return true;
+                    }
+                    th = zero + tau * sign(t) / kappa + a;
+                    om = 0.0;
+                    false
+                });
             }
             t = (k + 1) as f64 * self.dt;
         }
