@@ -191,6 +191,31 @@ pub fn row_name(file: &str, e: &Event) -> String {
     }
 }
 
+/// The position a move in row `e` goes to, the masses being at `at` before it.
+fn resolve(e: &Event, at: char, file: &str, warnings: &mut Vec<String>) -> char {
+    match label_meaning(&e.label) {
+        LabelMeaning::Position(p) => {
+            if p == at {
+                warnings.push(format!(
+                    "{}: a move to {p}, where the masses already were: check the label (the segments are still split here)",
+                    row_name(file, e)
+                ));
+            }
+            p
+        }
+        LabelMeaning::Other => other(at),
+        LabelMeaning::Unknown => {
+            warnings.push(format!(
+                "{}: label {:?} is neither A nor B (nor 'move'): read as a move to the other position, {}",
+                row_name(file, e),
+                e.label,
+                other(at)
+            ));
+            other(at)
+        }
+    }
+}
+
 /// Lay `events` against a track running from `t_first` to `t_last` (s); remarks go to `warnings`,
 /// naming `file` and the row's line.
 pub fn lay_out(
@@ -237,27 +262,7 @@ pub fn lay_out(
             ));
             continue;
         }
-        let to = match label_meaning(&e.label) {
-            LabelMeaning::Position(p) => {
-                if p == at {
-                    warnings.push(format!(
-                        "{}: a move to {p}, where the masses already were: check the label (the segments are still split here)",
-                        row_name(file, e)
-                    ));
-                }
-                p
-            }
-            LabelMeaning::Other => other(at),
-            LabelMeaning::Unknown => {
-                warnings.push(format!(
-                    "{}: label {:?} is neither A nor B (nor 'move'): read as a move to the other position, {}",
-                    row_name(file, e),
-                    e.label,
-                    other(at)
-                ));
-                other(at)
-            }
-        };
+        let to = resolve(e, at, file, warnings);
         moves.push(LoggedMove {
             t: e.t,
             to,

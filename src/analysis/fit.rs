@@ -13,6 +13,12 @@ use super::{robust, AnalysisError, AnalysisOptions};
 use crate::units::Measured;
 use std::f64::consts::PI;
 
+/// What a note says happens to a segment refused for the period.
+const HELD: &str = ": its equilibrium is fitted with the other segments' period and damping";
+
+/// When no segment lasts `min_periods`, those lasting this many periods give the period.
+const SHORT_PERIODS: f64 = 1.0;
+
 /// One segment while being fitted.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Seg {
@@ -171,6 +177,7 @@ pub fn fit_segments(
             fit_free(t, y, k, seg, t_fft, opts)
         })
         .collect();
+    fall_back_to_short(t, y, &mut segs, t_fft, opts, warnings);
     refuse_stray_periods(&mut segs, t_fft);
     let (omega0, birge, gamma) = combine_frequency(&segs, t_fft, opts, warnings)?;
     let gamma_v = gamma.value.max(0.0);
@@ -200,6 +207,35 @@ pub fn fit_segments(
         gamma_v,
         omega_d,
     })
+}
+
+/// When no segment lasts `opts.min_periods`, those of at least [`SHORT_PERIODS`] are fitted in full
+/// to give the period, with a warning.
+fn fall_back_to_short(
+    t: &[f64],
+    y: &[f64],
+    segs: &mut [Seg],
+    t_fft: f64,
+    opts: &AnalysisOptions,
+    warnings: &mut Vec<String>,
+) {
+    if segs.iter().any(|s| s.long) {
+        return;
+    }
+    for (k, seg) in segs.iter_mut().enumerate() {
+        let (a, b) = seg.idx;
+        if seg.end - seg.start >= SHORT_PERIODS * t_fft && b - a >= 16 {
+            seg.long = true;
+            seg.note = None;
+            *seg = fit_free(t, y, k, seg.clone(), t_fft, opts);
+        }
+    }
+    if segs.iter().any(|s| s.long) {
+        warnings.push(format!(
+            "no segment lasts {} periods: the period comes from segments of {SHORT_PERIODS} to {} periods, and is less certain; record longer between moves",
+            opts.min_periods, opts.min_periods
+        ));
+    }
 }
 
 /// Segment `(start, end)` times: from the first sample to the first move, between moves, and from
@@ -241,7 +277,7 @@ fn fit_free(
     let length = seg.end - seg.start;
     if !seg.long {
         seg.note = Some(format!(
-            "{}: too short for its own period ({:.2} periods, {} needed): its equilibrium is fitted with the other segments' period and damping",
+            "{}: too short for its own period ({:.2} periods, {} needed){HELD}",
             seg_name(k, &seg),
             length / t_fft,
             opts.min_periods
@@ -261,7 +297,7 @@ fn fit_free(
                 seg.rejected = out.into_iter().map(|i| i + a).collect();
             } else {
                 seg.note = Some(format!(
-                    "{}: swing too small for its own period (amplitude {amp:.2e} rad against residuals {:.2e} rad, 10 times needed): its equilibrium is fitted with the other segments' period and damping",
+                    "{}: swing too small for its own period (amplitude {amp:.2e} rad against residuals {:.2e} rad, 10 times needed){HELD}",
                     seg_name(k, &seg),
                     f.rms
                 ));
@@ -269,10 +305,7 @@ fn fit_free(
             }
         }
         Err(source) => {
-            seg.note = Some(format!(
-                "{}: {source}; its equilibrium is fitted with the other segments' period and damping",
-                seg_name(k, &seg)
-            ));
+            seg.note = Some(format!("{}: {source}{HELD}", seg_name(k, &seg)));
             seg.long = false;
         }
     }
@@ -288,7 +321,7 @@ fn refuse_stray_periods(segs: &mut [Seg], t_fft: f64) {
         let p = 2.0 * PI / f.omega0().0;
         if (p / t_fft - 1.0).abs() > 0.2 {
             seg.note = Some(format!(
-                "{}: its own fit gives a period of {p:.1} s, far from the spectrum's {t_fft:.1} s (a degenerate fit): refused for the period; its equilibrium is fitted with the other segments' period and damping",
+                "{}: its own fit gives a period of {p:.1} s, far from the spectrum's {t_fft:.1} s (a degenerate fit): refused for the period{HELD}",
                 seg_name(k, seg)
             ));
             seg.fit = None;
@@ -311,7 +344,7 @@ fn combine_frequency(
         let reasons: String = segs
             .iter()
             .filter_map(|s| s.note.as_ref())
-            .map(|n| format!("\n  {n}"))
+            .map(|n| format!("\n  {}", n.trim_end_matches(HELD)))
             .collect();
         return Err(AnalysisError::NoPeriod {
             min: opts.min_periods,

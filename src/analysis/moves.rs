@@ -46,15 +46,17 @@ pub fn find_moves(
     let given: Option<Vec<f64>> = layout
         .as_ref()
         .map(|l| l.moves.iter().map(|m| m.t).collect());
-    let first_spec = period::spectrum(
-        t,
-        y,
-        &period::SpectrumOptions {
-            breaks: given.clone().unwrap_or_default(),
-            differentiate: given.is_none(),
-            ..Default::default()
-        },
-    )?;
+    let first_spec = match &given {
+        Some(b) => spectrum_between(t, y, b)?,
+        None => period::spectrum(
+            t,
+            y,
+            &period::SpectrumOptions {
+                differentiate: true,
+                ..Default::default()
+            },
+        )?,
+    };
     let Some(layout) = layout else {
         return detect(t, y, first_spec, opts);
     };
@@ -79,6 +81,36 @@ pub fn find_moves(
         spectrum: first_spec,
         from_events: true,
     })
+}
+
+/// The spectrum of the stretches between logged `moves`. Stretches all shorter than about 1.5
+/// periods leave no peak above the lowest bins looked at: look again from 0.75 cycles per stretch,
+/// then in the differenced whole trace (its steps become single spikes), so that the fits can say,
+/// segment by segment, which are too short.
+fn spectrum_between(
+    t: &[f64],
+    y: &[f64],
+    moves: &[f64],
+) -> Result<period::Spectrum, period::SpectrumError> {
+    let with = |breaks: &[f64], min_cycles: f64, differentiate: bool| {
+        period::spectrum(
+            t,
+            y,
+            &period::SpectrumOptions {
+                breaks: breaks.to_vec(),
+                min_cycles,
+                differentiate,
+                ..Default::default()
+            },
+        )
+    };
+    match with(moves, 1.5, false) {
+        Err(period::SpectrumError::NoPeak) => match with(moves, 0.75, false) {
+            Err(period::SpectrumError::NoPeak) => with(&[], 1.5, true),
+            s => s,
+        },
+        s => s,
+    }
 }
 
 /// Moves found in the trace, starting from the spectrum `first_spec` of the differenced series.

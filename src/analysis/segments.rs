@@ -4,7 +4,7 @@
 //! Finding the moves uses the equation of motion: with the torque constant between moves,
 //! `theta_eq(t) = theta + (theta'' + 2 gamma theta') / omega_0^2` is constant, so it is a step function
 //! over the run whose steps are the moves. The derivatives come from a local quadratic fit over a fifth
-//! of a period around each point of a grid (a hundredth of a period apart, using only the samples
+//! of a period (at least five samples' span) around each point of a grid (a hundredth of a period apart, using only the samples
 //! present, so gaps are not bridged); the step detector is the difference between the means of
 //! `theta_eq` over one period after and one period before each grid point, whose extremes (above eight
 //! times the detector's noise, estimated robustly from differences of `theta_eq`, and above a quarter
@@ -91,7 +91,10 @@ pub fn detect_moves(t: &[f64], y: &[f64], period: f64, gamma: f64) -> Detection 
 fn equilibrium_grid(t: &[f64], y: &[f64], period: f64, gamma: f64, dg: f64) -> Vec<Option<f64>> {
     let n = t.len().min(y.len());
     let w0 = 2.0 * std::f64::consts::PI / period;
-    let h = period / 10.0;
+    // A fifth of a period, or wide enough for five samples when the sampling is sparse (the
+    // quadratic's larger bias is a ripple at the oscillation frequency, which the detector's
+    // one-period windows cancel).
+    let h = (period / 10.0).max(2.6 * median_spacing(t));
     let (ta, tb) = (t[0], t[n - 1]);
     let m = ((tb - ta) / dg).floor() as usize + 1;
     let mut eq: Vec<Option<f64>> = Vec::with_capacity(m);
@@ -107,6 +110,13 @@ fn equilibrium_grid(t: &[f64], y: &[f64], period: f64, gamma: f64, dg: f64) -> V
         );
     }
     eq
+}
+
+/// Median spacing of the sample times, s.
+fn median_spacing(t: &[f64]) -> f64 {
+    let mut d: Vec<f64> = t.windows(2).map(|w| w[1] - w[0]).collect();
+    d.sort_by(f64::total_cmp);
+    d[d.len() / 2]
 }
 
 /// The detector on the grid (first point at `ta`, spacing `dg`): the mean equilibrium over one
@@ -224,36 +234,7 @@ pub fn refine_move(
     }
     let (ts, ys) = (&t[a..b], &y[a..b]);
     let ym = ys.iter().sum::<f64>() / ys.len() as f64;
-    let rss_at = |tm: f64| -> Option<f64> {
-        let mut m = nalgebra::Matrix4::<f64>::zeros();
-        let mut r = nalgebra::Vector4::<f64>::zeros();
-        let rows: Vec<nalgebra::Vector4<f64>> = ts
-            .iter()
-            .map(|&tt| {
-                let e = (-gamma * (tt - lo)).exp();
-                let (sn, cs) = (omega_d * (tt - lo)).sin_cos();
-                let s = tt - tm;
-                let step = if s >= 0.0 {
-                    let (ss, cc) = (omega_d * s).sin_cos();
-                    1.0 - (-gamma * s).exp() * (cc + gamma / omega_d * ss)
-                } else {
-                    0.0
-                };
-                nalgebra::Vector4::new(1.0, e * cs, e * sn, step)
-            })
-            .collect();
-        for (v, &yy) in rows.iter().zip(ys) {
-            m += v * v.transpose();
-            r += v * (yy - ym);
-        }
-        let c = m.try_inverse()? * r;
-        Some(
-            rows.iter()
-                .zip(ys)
-                .map(|(v, &yy)| (v.dot(&c) - (yy - ym)).powi(2))
-                .sum(),
-        )
-    };
+    let rss_at = |tm: f64| step_rss(ts, ys, ym, lo, tm, gamma, omega_d);
     let step = period / 400.0;
     let half = (reach * 400.0).round().max(1.0) as i64;
     let cand: Vec<(f64, f64)> = (-half..=half)
@@ -286,4 +267,45 @@ pub fn refine_move(
         }
     }
     Some(tm)
+}
+
+/// Residual sum of squares of `(ts, ys - ym)` against a free oscillation (origin `lo`) plus the exact
+/// response to a torque step at `tm`, all amplitudes linear.
+fn step_rss(
+    ts: &[f64],
+    ys: &[f64],
+    ym: f64,
+    lo: f64,
+    tm: f64,
+    gamma: f64,
+    omega_d: f64,
+) -> Option<f64> {
+    let mut m = nalgebra::Matrix4::<f64>::zeros();
+    let mut r = nalgebra::Vector4::<f64>::zeros();
+    let rows: Vec<nalgebra::Vector4<f64>> = ts
+        .iter()
+        .map(|&tt| {
+            let e = (-gamma * (tt - lo)).exp();
+            let (sn, cs) = (omega_d * (tt - lo)).sin_cos();
+            let s = tt - tm;
+            let step = if s >= 0.0 {
+                let (ss, cc) = (omega_d * s).sin_cos();
+                1.0 - (-gamma * s).exp() * (cc + gamma / omega_d * ss)
+            } else {
+                0.0
+            };
+            nalgebra::Vector4::new(1.0, e * cs, e * sn, step)
+        })
+        .collect();
+    for (v, &yy) in rows.iter().zip(ys) {
+        m += v * v.transpose();
+        r += v * (yy - ym);
+    }
+    let c = m.try_inverse()? * r;
+    Some(
+        rows.iter()
+            .zip(ys)
+            .map(|(v, &yy)| (v.dot(&c) - (yy - ym)).powi(2))
+            .sum(),
+    )
 }
