@@ -40,6 +40,14 @@ pub struct AnalyzeArgs {
 }
 
 pub fn run(args: AnalyzeArgs) -> anyhow::Result<()> {
+    for (name, v, most) in [
+        ("--settle", args.settle, 1.0),
+        ("--search", args.search, 0.5),
+    ] {
+        if !(0.0..=most).contains(&v) {
+            anyhow::bail!("{name} {v}: give a number of periods from 0 to {most}");
+        }
+    }
     let setup = Setup::load(&args.setup)?;
     let track = read_track(&args.track)?;
     let lever = spotlever::lever::Lever::from_setup(&setup);
@@ -49,14 +57,6 @@ pub fn run(args: AnalyzeArgs) -> anyhow::Result<()> {
         Some(p) => Some(analysis::read_events(p)?),
         None => None,
     };
-    for (name, v, most) in [
-        ("--settle", args.settle, 1.0),
-        ("--search", args.search, 0.5),
-    ] {
-        if !(0.0..=most).contains(&v) {
-            anyhow::bail!("{name} {v}: give a number of periods from 0 to {most}");
-        }
-    }
     let opts = AnalysisOptions {
         fit_drift: !args.no_drift,
         settle_periods: args.settle,
