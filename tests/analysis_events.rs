@@ -207,3 +207,30 @@ fn bad_rows_are_named_by_file_and_line() {
         "{e}"
     );
 }
+
+#[test]
+fn a_segment_too_short_to_fit_is_refused_by_name_and_g_still_follows() {
+    // The masses moved to B and back to A within a minute at 1500 s: the segment between gives no
+    // samples once the settling time is left out.
+    let mut w = World::standard(1e-5, 13);
+    w.moves = vec![1500.0, 1560.0, 3000.0, 4500.0, 6000.0];
+    w.initial_offset = 1e-3;
+    let ev = World::events_at(&w.moves);
+    let a = run(&w, &ev, &opts());
+    assert_eq!(a.refused.len(), 1, "{:?}", a.refused);
+    let r = &a.refused[0];
+    assert_eq!((r.index, r.label.as_str()), (2, "B"));
+    assert!(
+        r.reason.starts_with("segment 2 (B,") && r.reason.contains("refused"),
+        "{}",
+        r.reason
+    );
+    assert!(
+        a.warnings
+            .iter()
+            .any(|m| m.contains("segments 3 to 6 only")),
+        "{:?}",
+        a.warnings
+    );
+    assert_unbiased(&a, "refused middle segment");
+}

@@ -63,13 +63,37 @@ pub fn segment_results(
     (done, refused)
 }
 
+/// The longest stretch of `segments` with consecutive indices (the first of equal ones): a refused
+/// segment between two others would put two equilibria of the same position side by side.
+fn unbroken_run(segments: &[SegmentResult]) -> &[SegmentResult] {
+    let mut best = (0, 0);
+    let mut lo = 0;
+    for k in 0..segments.len() {
+        if k > 0 && segments[k].index != segments[k - 1].index + 1 {
+            lo = k;
+        }
+        if k + 1 - lo > best.1 - best.0 {
+            best = (lo, k + 1);
+        }
+    }
+    &segments[best.0..best.1]
+}
+
 /// The deflection from the segments' equilibria, with remarks on how far it can be trusted.
 pub fn combine_equilibria(
     segments: &[SegmentResult],
     refused: &[RefusedSegment],
     warnings: &mut Vec<String>,
 ) -> Result<Deflection, AnalysisError> {
-    let eqs: Vec<(f64, Measured)> = segments.iter().map(|s| (s.t_ref, s.equilibrium)).collect();
+    let run = unbroken_run(segments);
+    if run.len() < segments.len() {
+        warnings.push(format!(
+            "a refused segment breaks the A-B alternation: the deflection uses segments {} to {} only (the longest unbroken run)",
+            run[0].index,
+            run[run.len() - 1].index
+        ));
+    }
+    let eqs: Vec<(f64, Measured)> = run.iter().map(|s| (s.t_ref, s.equilibrium)).collect();
     let deflection = gravity::deflection(&eqs).ok_or_else(|| AnalysisError::TooFewEquilibria {
         reasons: refused
             .iter()

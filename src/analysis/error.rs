@@ -1,6 +1,6 @@
 //! What stops an analysis, with what to do about it.
 
-use super::{damped, period, uncertainty};
+use super::{period, uncertainty};
 
 /// What stopped an analysis.
 #[derive(Debug, thiserror::Error)]
@@ -39,14 +39,6 @@ pub enum AnalysisError {
     },
     #[error("{what}: the values to combine have no uncertainty (zero or missing), so they cannot be weighted; the fits are degenerate (noise-free or too few samples)")]
     ZeroUncertainty { what: &'static str },
-    #[error("segment {segment} ({start:.1} s to {end:.1} s): {source}")]
-    Fit {
-        segment: usize,
-        start: f64,
-        end: f64,
-        #[source]
-        source: damped::FitError,
-    },
     #[error("uncertainty propagation: {0}")]
     Propagation(#[from] uncertainty::PropagationError),
 }
