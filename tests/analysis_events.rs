@@ -232,5 +232,7 @@ fn a_segment_too_short_to_fit_is_refused_by_name_and_g_still_follows() {
         "{:?}",
         a.warnings
     );
+    let screen = spotlever::analysis::Summary::new(&a, 0, false).to_string();
+    assert!(screen.contains("refused: segment 2 (B,"), "{screen}");
     assert_unbiased(&a, "refused middle segment");
 }
