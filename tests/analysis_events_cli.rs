@@ -68,9 +68,9 @@ fn write_track(path: &Path, w: &World) -> usize {
 fn the_readme_steps_work_with_an_events_file_from_record() {
     let dir = tempfile::tempdir().unwrap();
     let w = World::standard(1e-5, 31);
-    let ambiguous = write_track(&dir.path().join("track.csv"), &w);
-    std::fs::write(dir.path().join("setup.toml"), EXACT_SETUP).unwrap();
     std::fs::create_dir(dir.path().join("run1")).unwrap();
+    let ambiguous = write_track(&dir.path().join("run1/track.csv"), &w);
+    std::fs::write(dir.path().join("setup.toml"), EXACT_SETUP).unwrap();
     {
         let mut log = EventLog::open(&dir.path().join("run1/events.csv")).unwrap();
         for &m in &w.moves {
@@ -80,7 +80,7 @@ fn the_readme_steps_work_with_an_events_file_from_record() {
     // Step 4 of the README, verbatim.
     let o = run(bin().current_dir(dir.path()).args([
         "analyze",
-        "track.csv",
+        "run1/track.csv",
         "--setup",
         "setup.toml",
         "--events",
