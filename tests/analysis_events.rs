@@ -91,39 +91,53 @@ fn short_period(mut w: World) -> World {
     w
 }
 
-/// G with the events logged at `logged` against G with the true (mid-move) times.
+/// G with the events logged at `logged` against G with the true (mid-move) times used as they are.
 fn relative_change(w: &World, logged: &[f64], o: &AnalysisOptions) -> (f64, Analysis) {
-    let exact = run(w, &World::events_at(&w.true_moves()), &opts());
+    let as_given = AnalysisOptions {
+        refine_reach_periods: 0.0,
+        ..opts()
+    };
+    let exact = run(w, &World::events_at(&w.true_moves()), &as_given);
     let a = run(w, &World::events_at(logged), o);
     (a.g.value / exact.g.value - 1.0, a)
 }
 
 #[test]
 fn a_slow_move_logged_at_its_start_gives_the_exact_events_result() {
-    // Masses swung over 30 s, each move logged when the swing began; a 300 s period sampled every
-    // 5 s, so the swing lasts a tenth of a period.
-    let mut w = short_period(World::standard(1e-5, 7));
-    w.move_duration = 30.0;
-    let logged = w.moves.clone();
-    let (d, a) = relative_change(&w, &logged, &opts());
-    let (d_raw, _) = relative_change(
-        &w,
-        &logged,
-        &AnalysisOptions {
-            settle_periods: 0.0,
-            refine_reach_periods: 0.0,
-            ..opts()
-        },
-    );
-    eprintln!(
-        "30 s move logged at its start: G {:+.3} % (as logged, no settling: {:+.3} %)",
-        100.0 * d,
-        100.0 * d_raw
-    );
-    assert!(d.abs() < 2e-3, "G changed by {:.3} %", 100.0 * d);
-    // The refined times sit near the middle of each swing (within a twentieth of a period).
-    for (m, t) in a.moves.iter().zip(w.true_moves()) {
-        assert!((m - t).abs() < 15.0, "move at {m} s, true {t} s");
+    // Masses swung over 30 s, each move logged when the swing began: a tenth of a 300 s period
+    // sampled every 5 s, and a fifth of a 150 s period sampled every 3 s.
+    for (period, dt) in [(300.0, 5.0), (150.0, 3.0)] {
+        let mut w = short_period(World::standard(1e-5, 7));
+        w.period = period;
+        w.dt = dt;
+        w.moves = (1..5).map(|k| k as f64 * 3.0 * period).collect();
+        w.length = 15.0 * period;
+        w.move_duration = 30.0;
+        let logged = w.moves.clone();
+        let (d, a) = relative_change(&w, &logged, &opts());
+        let (d_raw, _) = relative_change(
+            &w,
+            &logged,
+            &AnalysisOptions {
+                settle_periods: 0.0,
+                refine_reach_periods: 0.0,
+                ..opts()
+            },
+        );
+        eprintln!(
+            "T {period} s: 30 s move logged at its start: G {:+.3} % (as logged, no settling: {:+.3} %)",
+            100.0 * d,
+            100.0 * d_raw
+        );
+        assert!(
+            d.abs() < 2e-3,
+            "T {period} s: G changed by {:.3} %",
+            100.0 * d
+        );
+        // The refined times sit near the middle of each swing (within a twentieth of a period).
+        for (m, t) in a.moves.iter().zip(w.true_moves()) {
+            assert!((m - t).abs() < period / 20.0, "move at {m} s, true {t} s");
+        }
     }
 }
 
