@@ -154,10 +154,7 @@ fn integrated_run(segments: usize, seg: f64, period_guess: f64) -> (Vec<Sample>,
         w += dt / 6.0 * (k1.1 + 2.0 * k2.1 + 2.0 * k3.1 + k4.1);
     }
     let events = (0..segments)
-        .map(|k| Event {
-            t: k as f64 * seg,
-            label: if k % 2 == 0 { "A" } else { "B" }.into(),
-        })
+        .map(|k| Event::new(k as f64 * seg, if k % 2 == 0 { "A" } else { "B" }))
         .collect();
     (samples, events)
 }

@@ -74,10 +74,7 @@ fn analyzer_finds_the_planned_period_and_deflection() {
         .collect();
     let events: Vec<Event> = [(0.0, "A"), (seg, "B"), (2.0 * seg, "A"), (3.0 * seg, "B")]
         .iter()
-        .map(|&(t, l)| Event {
-            t,
-            label: l.to_string(),
-        })
+        .map(|&(t, l)| Event::new(t, l))
         .collect();
     let opts = AnalysisOptions {
         mc_draws: 2_000,

@@ -1,7 +1,7 @@
 //! The first step: from a track to samples, and from samples to the clean, time-ordered series the
-//! fits use (non-finite samples dropped, samples before the first event left out, gaps listed).
+//! fits use (non-finite samples dropped, the time order checked, gaps listed). Rows of a track whose
+//! spot status carries no position (anything but `ok` and `saturated`) are gaps.
 
-use super::segments::Event;
 use super::{AnalysisError, Sample};
 use crate::lever::Lever;
 use crate::track::TrackFile;
@@ -42,33 +42,17 @@ pub struct Clean {
     pub gaps: Vec<(f64, f64)>,
 }
 
-/// Clean `samples`: drop the non-finite ones, check the time order, leave out the samples before the
-/// first of `events` (their mass position is unknown) and list the gaps. Remarks go to `warnings`.
+/// Clean `samples`: drop the non-finite ones, check the time order and list the gaps. Remarks go to
+/// `warnings`.
 pub fn clean_samples(
     samples: &[Sample],
-    events: Option<&[Event]>,
     warnings: &mut Vec<String>,
 ) -> Result<Clean, AnalysisError> {
-    let (mut t, mut y, dropped) = finite_in_order(samples)?;
+    let (t, y, dropped) = finite_in_order(samples)?;
     if dropped > 0 {
         warnings.push(format!(
             "{dropped} samples with a non-finite time or angle were left out (treated as gaps)"
         ));
-    }
-    // Leading samples before the first event have no known mass position.
-    if let Some(e0) = events.and_then(|ev| ev.first()) {
-        let first = t.partition_point(|&v| v < e0.t);
-        if first > 0 {
-            warnings.push(format!(
-                "{first} samples before the first event ({} s) were left out",
-                e0.t
-            ));
-        }
-        if t.len() - first < 32 {
-            return Err(AnalysisError::EventsAfterData(e0.t));
-        }
-        t.drain(..first);
-        y.drain(..first);
     }
     let n = t.len();
     if n < 32 {

@@ -1,67 +1,105 @@
 //! The fourth step: each fitted segment's result (equilibrium, own period, damping, turning-point
-//! rest point, label), and the deflection `theta_G` the segments' equilibria combine to.
+//! rest point, label, stray samples left out), the segments refused with their reasons, and the
+//! deflection `theta_G` the segments' equilibria combine to.
 
 use super::damped::{GAMMA, X_EQ};
 use super::fit::Seg;
 use super::gravity::{self, Deflection};
-use super::segments::Event;
+use super::types::RefusedSegment;
 use super::{turning, AnalysisError, SegmentResult};
 use crate::units::Measured;
 use std::f64::consts::PI;
 
-/// The results of the fitted `segs` (the samples `(t, y)`; `period0` the combined natural period, s),
-/// labelled from `events` when given, otherwise alternately A and B over `count` segments.
+/// The results of the fitted `segs` (the samples `(t, y)`; `period0` the combined natural period, s)
+/// and the segments without a fit, refused with the reason in their note.
 pub fn segment_results(
     t: &[f64],
     y: &[f64],
     segs: Vec<Seg>,
-    count: usize,
-    events: Option<&[Event]>,
     period0: f64,
-) -> Vec<SegmentResult> {
-    let labels: Vec<String> = match events {
-        Some(ev) => ev.iter().map(|e| e.label.clone()).collect(),
-        None => (0..count)
-            .map(|k| if k % 2 == 0 { "A" } else { "B" }.to_string())
-            .collect(),
-    };
-    segs.into_iter()
-        .enumerate()
-        .filter_map(|(k, s)| {
-            let f = s.fit?;
-            let (a, b) = s.idx;
-            let ext = turning::extremes(&t[a..b], &y[a..b], period0);
-            let g = f.params[GAMMA];
-            Some(SegmentResult {
+) -> (Vec<SegmentResult>, Vec<RefusedSegment>) {
+    let mut done = Vec::new();
+    let mut refused = Vec::new();
+    for (k, s) in segs.into_iter().enumerate() {
+        let Some(f) = s.fit else {
+            refused.push(RefusedSegment {
                 index: k + 1,
-                label: labels.get(k).cloned().unwrap_or_default(),
+                label: s.label,
                 start: s.start,
                 end: s.end,
-                t_ref: f.t_mid,
-                points: f.n,
-                equilibrium: Measured::new(f.params[X_EQ], f.u(X_EQ)),
-                period: (!f.frequency_fixed).then(|| {
-                    let (w, u) = f.omega0();
-                    Measured::new(2.0 * PI / w, 2.0 * PI * u / (w * w))
-                }),
-                damping_time: if g > 0.0 { 1.0 / g } else { f64::INFINITY },
-                residual_rms: f.rms,
-                used_for_period: s.long,
-                note: s.note,
-                turning_rest: turning::rest_point(&ext),
-                fit: f,
-            })
-        })
-        .collect()
+                reason: s.note.unwrap_or_else(|| "no fit".into()),
+            });
+            continue;
+        };
+        let (a, b) = s.idx;
+        // Turning points from the samples the fit kept.
+        let (ts, ys): (Vec<f64>, Vec<f64>) = (a..b)
+            .filter(|i| s.rejected.binary_search(i).is_err())
+            .map(|i| (t[i], y[i]))
+            .unzip();
+        let ext = turning::extremes(&ts, &ys, period0);
+        let g = f.params[GAMMA];
+        done.push(SegmentResult {
+            index: k + 1,
+            label: s.label,
+            start: s.start,
+            end: s.end,
+            t_ref: f.t_mid,
+            points: f.n,
+            outliers: s.rejected.len(),
+            equilibrium: Measured::new(f.params[X_EQ], f.u(X_EQ)),
+            period: (!f.frequency_fixed).then(|| {
+                let (w, u) = f.omega0();
+                Measured::new(2.0 * PI / w, 2.0 * PI * u / (w * w))
+            }),
+            damping_time: if g > 0.0 { 1.0 / g } else { f64::INFINITY },
+            residual_rms: f.rms,
+            used_for_period: s.long,
+            note: s.note,
+            turning_rest: turning::rest_point(&ext),
+            fit: f,
+        });
+    }
+    (done, refused)
+}
+
+/// The longest stretch of `segments` with consecutive indices (the first of equal ones): a refused
+/// segment between two others would put two equilibria of the same position side by side.
+fn unbroken_run(segments: &[SegmentResult]) -> &[SegmentResult] {
+    let mut best = (0, 0);
+    let mut lo = 0;
+    for k in 0..segments.len() {
+        if k > 0 && segments[k].index != segments[k - 1].index + 1 {
+            lo = k;
+        }
+        if k + 1 - lo > best.1 - best.0 {
+            best = (lo, k + 1);
+        }
+    }
+    &segments[best.0..best.1]
 }
 
 /// The deflection from the segments' equilibria, with remarks on how far it can be trusted.
 pub fn combine_equilibria(
     segments: &[SegmentResult],
+    refused: &[RefusedSegment],
     warnings: &mut Vec<String>,
 ) -> Result<Deflection, AnalysisError> {
-    let eqs: Vec<(f64, Measured)> = segments.iter().map(|s| (s.t_ref, s.equilibrium)).collect();
-    let deflection = gravity::deflection(&eqs).ok_or(AnalysisError::OneSegment)?;
+    let run = unbroken_run(segments);
+    if run.len() < segments.len() {
+        warnings.push(format!(
+            "a refused segment breaks the A-B alternation: the deflection uses segments {} to {} only (the longest unbroken run)",
+            run[0].index,
+            run[run.len() - 1].index
+        ));
+    }
+    let eqs: Vec<(f64, Measured)> = run.iter().map(|s| (s.t_ref, s.equilibrium)).collect();
+    let deflection = gravity::deflection(&eqs).ok_or_else(|| AnalysisError::TooFewEquilibria {
+        reasons: refused
+            .iter()
+            .map(|r| format!("\n  {}", r.reason))
+            .collect(),
+    })?;
     if !deflection.triples {
         warnings.push(
             "only two segments: a drift of the zero is not cancelled (three or more segments let A-B-A triples cancel it)".into(),

@@ -1,14 +1,23 @@
 //! The third step: a damped-sinusoid-plus-drift fit per segment between the moves. The long
-//! segments are fitted in full; their periods and decay rates combine (weighted means, the period's
-//! uncertainty scaled up by the Birge ratio when they scatter); the short or failed segments are then
-//! fitted with that period and decay held. Moves found in the trace are refined once the oscillation
-//! is known, and the segments fitted again.
+//! segments are fitted in full; a full fit whose swing is not well above its residuals, or whose period
+//! lies far from the spectrum's, is refused for the period (never averaged in). The periods and decay
+//! rates of the others combine (weighted means, the period's uncertainty scaled up by the Birge ratio
+//! when they scatter); the short or refused segments are then fitted with that period and decay held.
+//! Every fit leaves out stray samples ([`robust`]) and counts them. A segment whose held fit fails
+//! too is refused with its own reason. The moves (found in the trace, or logged) are refined from the
+//! data once the oscillation is known, and the segments fitted again.
 
-use super::damped::{self, fit_damped, fit_fixed_frequency, DampedFit, GAMMA, X_EQ};
+use super::damped::{fit_damped, fit_fixed_frequency, DampedFit, GAMMA, X_EQ};
 use super::moves::{refine_moves, Moves};
-use super::{AnalysisError, AnalysisOptions};
+use super::{robust, AnalysisError, AnalysisOptions};
 use crate::units::Measured;
 use std::f64::consts::PI;
+
+/// What a note says happens to a segment refused for the period.
+const HELD: &str = ": its equilibrium is fitted with the other segments' period and damping";
+
+/// When no segment lasts `min_periods`, those lasting this many periods give the period.
+const SHORT_PERIODS: f64 = 1.0;
 
 /// One segment while being fitted.
 #[derive(Debug, Clone, PartialEq)]
@@ -17,9 +26,13 @@ pub struct Seg {
     pub idx: (usize, usize),
     pub start: f64,
     pub end: f64,
+    /// Position label, `A` or `B`.
+    pub label: String,
     /// Whether the segment's own period entered the combined one.
     pub long: bool,
     pub fit: Option<DampedFit>,
+    /// Indices (into the whole series) of the samples left out as outliers.
+    pub rejected: Vec<usize>,
     pub note: Option<String>,
 }
 
@@ -41,9 +54,17 @@ pub struct Fitted {
     pub omega_d: f64,
 }
 
-/// Fit the segments between `found`'s moves; moves found in the trace are refined with the first
-/// fits' oscillation and the segments fitted again. Returns the moves used and the fits; only the
-/// final pass's remarks go to `warnings`.
+/// Time left out of a segment's fit after the move that starts it and before the move that ends it, s.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Cut {
+    pub after: f64,
+    pub before: f64,
+}
+
+/// Fit the segments between `found`'s moves; the moves are refined with the first fits' oscillation
+/// (found ones within a tenth of a period, logged ones within `opts.refine_reach_periods`) and the
+/// segments fitted again. Returns the moves used and the fits; only the final pass's remarks go to
+/// `warnings`.
 pub fn fit_run(
     t: &[f64],
     y: &[f64],
@@ -51,28 +72,78 @@ pub fn fit_run(
     opts: &AnalysisOptions,
     warnings: &mut Vec<String>,
 ) -> Result<(Vec<f64>, Fitted), AnalysisError> {
-    let (guard, t_fft) = (found.guard, found.spectrum.period());
+    let t_fft = found.spectrum.period();
+    // Until refined, a logged time may be early or late: leave a settling time both sides.
+    let cut = Cut {
+        after: found.settle,
+        before: found
+            .guard
+            .max(if found.from_events { found.settle } else { 0.0 }),
+    };
     let mut first_pass = Vec::new();
-    let fitted = fit_segments(t, y, &found.moves, guard, t_fft, opts, &mut first_pass)?;
-    if found.detection.is_none() {
+    let fitted = fit_segments(
+        t,
+        y,
+        &found.moves,
+        &found.labels,
+        cut,
+        t_fft,
+        opts,
+        &mut first_pass,
+    )?;
+    let reach = if found.from_events {
+        opts.refine_reach_periods
+    } else {
+        0.1
+    };
+    if reach <= 0.0 {
         warnings.extend(first_pass);
         return Ok((found.moves.clone(), fitted));
     }
-    // Found moves: refine each time with the exact step response, then fit again.
-    let moves = refine_moves(t, y, &found.moves, fitted.gamma_v, fitted.omega_d);
+    let moves = refine_moves(t, y, &found.moves, fitted.gamma_v, fitted.omega_d, reach);
+    if found.from_events {
+        note_refined(t, &found.moves, &moves, &found.lines, opts, warnings);
+    }
+    let cut = Cut {
+        after: found.settle,
+        before: found.guard.max(opts.detect_guard_periods * t_fft),
+    };
     let mut w2 = Vec::new();
-    let fitted = fit_segments(t, y, &moves, guard, t_fft, opts, &mut w2)?;
+    let fitted = fit_segments(t, y, &moves, &found.labels, cut, t_fft, opts, &mut w2)?;
     warnings.extend(w2);
     Ok((moves, fitted))
 }
 
-/// Fit every segment between `moves` (full fits for the long ones, then the short ones with the
-/// combined period and damping), leaving `guard` s out either side of each move.
+/// A remark for each logged move whose time the data put more than two sample spacings away.
+fn note_refined(
+    t: &[f64],
+    logged: &[f64],
+    refined: &[f64],
+    lines: &[usize],
+    opts: &AnalysisOptions,
+    warnings: &mut Vec<String>,
+) {
+    let dt = (t[t.len() - 1] - t[0]) / (t.len() - 1) as f64;
+    let file = opts.events_file.as_deref().unwrap_or("events");
+    for ((&l, &r), &line) in logged.iter().zip(refined).zip(lines) {
+        if (r - l).abs() > 2.0 * dt {
+            warnings.push(format!(
+                "{file}, line {line}: the move logged at {l:.1} s is seen in the data at {r:.1} s ({:+.1} s): the data's time is used",
+                r - l
+            ));
+        }
+    }
+}
+
+/// Fit every segment between `moves` (full fits for the long ones, then the others with the
+/// combined period and damping), leaving `cut` out around each move.
+#[allow(clippy::too_many_arguments)]
 pub fn fit_segments(
     t: &[f64],
     y: &[f64],
     moves: &[f64],
-    guard: f64,
+    labels: &[String],
+    cut: Cut,
     t_fft: f64,
     opts: &AnalysisOptions,
     warnings: &mut Vec<String>,
@@ -85,31 +156,46 @@ pub fn fit_segments(
         .iter()
         .enumerate()
         .map(|(k, &(s, e))| {
-            let lo_t = if k > 0 { s + guard } else { s };
+            let lo_t = if k > 0 { s + cut.after } else { s };
             let hi_t = if k + 1 < bounds.len() {
-                e - guard
+                e - cut.before
             } else {
                 e + 1.0
             };
             let a = t.partition_point(|&v| v < lo_t);
-            let b = t.partition_point(|&v| v < hi_t);
+            let b = t.partition_point(|&v| v < hi_t).max(a);
             let seg = Seg {
                 idx: (a, b),
                 start: s,
                 end: e,
+                label: labels.get(k).cloned().unwrap_or_default(),
                 long: e - s >= opts.min_periods * t_fft && b - a >= 16,
                 fit: None,
+                rejected: Vec::new(),
                 note: None,
             };
-            fit_free(t, y, k, seg, t_fft, opts, warnings)
+            fit_free(t, y, k, seg, t_fft, opts)
         })
         .collect();
+    fall_back_to_short(t, y, &mut segs, t_fft, opts, warnings);
+    refuse_stray_periods(&mut segs, t_fft);
     let (omega0, birge, gamma) = combine_frequency(&segs, t_fft, opts, warnings)?;
     let gamma_v = gamma.value.max(0.0);
     let omega_d = (omega0.value.powi(2) - gamma_v.powi(2)).max(0.0).sqrt();
     for (k, seg) in segs.iter_mut().enumerate() {
         if seg.fit.is_none() {
-            seg.fit = Some(fit_held(t, y, k, seg, gamma_v, omega_d, opts)?);
+            fit_held(t, y, k, seg, gamma_v, omega_d, opts);
+        }
+        if let Some(n) = &seg.note {
+            warnings.push(n.clone());
+        }
+        if !seg.rejected.is_empty() {
+            warnings.push(format!(
+                "{}: {} stray samples (residual over {} robust standard deviations) left out of the fit",
+                seg_name(k, seg),
+                seg.rejected.len(),
+                robust::CLIP_SIGMAS
+            ));
         }
     }
     Ok(Fitted {
@@ -121,6 +207,35 @@ pub fn fit_segments(
         gamma_v,
         omega_d,
     })
+}
+
+/// When no segment lasts `opts.min_periods`, those of at least [`SHORT_PERIODS`] are fitted in full
+/// to give the period, with a warning.
+fn fall_back_to_short(
+    t: &[f64],
+    y: &[f64],
+    segs: &mut [Seg],
+    t_fft: f64,
+    opts: &AnalysisOptions,
+    warnings: &mut Vec<String>,
+) {
+    if segs.iter().any(|s| s.long) {
+        return;
+    }
+    for (k, seg) in segs.iter_mut().enumerate() {
+        let (a, b) = seg.idx;
+        if seg.end - seg.start >= SHORT_PERIODS * t_fft && b - a >= 16 {
+            seg.long = true;
+            seg.note = None;
+            *seg = fit_free(t, y, k, seg.clone(), t_fft, opts);
+        }
+    }
+    if segs.iter().any(|s| s.long) {
+        warnings.push(format!(
+            "no segment lasts {} periods: the period comes from segments of {SHORT_PERIODS} to {} periods, and is less certain; record longer between moves",
+            opts.min_periods, opts.min_periods
+        ));
+    }
 }
 
 /// Segment `(start, end)` times: from the first sample to the first move, between moves, and from
@@ -137,8 +252,19 @@ fn segment_bounds(t: &[f64], moves: &[f64]) -> Vec<(f64, f64)> {
     bounds
 }
 
+/// `Segment k (start to end)` for messages.
+fn seg_name(k: usize, seg: &Seg) -> String {
+    format!(
+        "segment {} ({}, {:.1} s to {:.1} s)",
+        k + 1,
+        seg.label,
+        seg.start,
+        seg.end
+    )
+}
+
 /// Segment `k` (0-based) fitted in full when `seg.long` (it lasts long enough); otherwise, or when
-/// the fit fails or sees no oscillation, a note and no fit yet.
+/// the fit fails or sees no oscillation well above its residuals, a note and no fit yet.
 fn fit_free(
     t: &[f64],
     y: &[f64],
@@ -146,51 +272,63 @@ fn fit_free(
     mut seg: Seg,
     t_fft: f64,
     opts: &AnalysisOptions,
-    warnings: &mut Vec<String>,
 ) -> Seg {
-    let ((a, b), s, e) = (seg.idx, seg.start, seg.end);
-    let length = e - s;
-    let mut note = |seg: &mut Seg, msg: String| {
-        warnings.push(msg.clone());
-        seg.note = Some(msg);
-    };
+    let (a, b) = seg.idx;
+    let length = seg.end - seg.start;
     if !seg.long {
-        let msg = format!(
-            "segment {} ({s:.1} s to {e:.1} s) lasts {:.2} periods (< {}): left out of the period; its equilibrium is fitted with the other segments' period and damping",
-            k + 1,
+        seg.note = Some(format!(
+            "{}: too short for its own period ({:.2} periods, {} needed){HELD}",
+            seg_name(k, &seg),
             length / t_fft,
             opts.min_periods
-        );
-        note(&mut seg, msg);
+        ));
         return seg;
     }
     let (ts, ys) = (&t[a..b], &y[a..b]);
     let t_mid = 0.5 * (ts[0] + ts[ts.len() - 1]);
-    match fit_damped(ts, ys, s, t_mid, 2.0 * PI / t_fft, opts.fit_drift) {
-        Ok(f) => {
+    let s = seg.start;
+    let fitter =
+        |tt: &[f64], yy: &[f64]| fit_damped(tt, yy, s, t_mid, 2.0 * PI / t_fft, opts.fit_drift);
+    match robust::clip_fit(ts, ys, fitter, |f, tt| f.eval(tt)) {
+        Ok((f, out)) => {
             let amp = f.amplitude();
             if amp > 10.0 * f.rms && amp > 1e-9 * (f.params[X_EQ].abs() + amp) {
                 seg.fit = Some(f);
+                seg.rejected = out.into_iter().map(|i| i + a).collect();
             } else {
-                let msg = format!(
-                    "segment {} ({s:.1} s to {e:.1} s): no oscillation seen (amplitude {amp:.2e} rad against residuals {:.2e} rad); left out of the period",
-                    k + 1,
+                seg.note = Some(format!(
+                    "{}: swing too small for its own period (amplitude {amp:.2e} rad against residuals {:.2e} rad, 10 times needed){HELD}",
+                    seg_name(k, &seg),
                     f.rms
-                );
-                note(&mut seg, msg);
+                ));
                 seg.long = false;
             }
         }
         Err(source) => {
-            let msg = format!(
-                "segment {} ({s:.1} s to {e:.1} s): {source}; left out of the period",
-                k + 1
-            );
-            note(&mut seg, msg);
+            seg.note = Some(format!("{}: {source}{HELD}", seg_name(k, &seg)));
             seg.long = false;
         }
     }
     seg
+}
+
+/// A full fit whose period lies more than a fifth away from the spectrum's peak `t_fft` is a
+/// degenerate fit (the oscillation mistaken for drift or the reverse): it is refused for the period and
+/// fitted again with the period held.
+fn refuse_stray_periods(segs: &mut [Seg], t_fft: f64) {
+    for (k, seg) in segs.iter_mut().enumerate() {
+        let Some(f) = &seg.fit else { continue };
+        let p = 2.0 * PI / f.omega0().0;
+        if (p / t_fft - 1.0).abs() > 0.2 {
+            seg.note = Some(format!(
+                "{}: its own fit gives a period of {p:.1} s, far from the spectrum's {t_fft:.1} s (a degenerate fit): refused for the period{HELD}",
+                seg_name(k, seg)
+            ));
+            seg.fit = None;
+            seg.long = false;
+            seg.rejected.clear();
+        }
+    }
 }
 
 /// The combined natural angular frequency (with the Birge ratio of the segments' values) and decay
@@ -201,25 +339,31 @@ fn combine_frequency(
     opts: &AnalysisOptions,
     warnings: &mut Vec<String>,
 ) -> Result<(Measured, Option<f64>, Measured), AnalysisError> {
-    let omegas: Vec<Measured> = segs
+    let fits: Vec<&DampedFit> = segs.iter().filter_map(|s| s.fit.as_ref()).collect();
+    if fits.is_empty() {
+        let reasons: String = segs
+            .iter()
+            .filter_map(|s| s.note.as_ref())
+            .map(|n| format!("\n  {}", n.trim_end_matches(HELD)))
+            .collect();
+        return Err(AnalysisError::NoPeriod {
+            min: opts.min_periods,
+            period: t_fft,
+            reasons,
+        });
+    }
+    let omegas: Vec<Measured> = fits
         .iter()
-        .filter_map(|s| s.fit.as_ref())
         .map(|f| {
             let (w, u) = f.omega0();
             Measured::new(w, u)
         })
         .collect();
-    let gammas: Vec<Measured> = segs
+    let gammas: Vec<Measured> = fits
         .iter()
-        .filter_map(|s| s.fit.as_ref())
         .map(|f| Measured::new(f.params[GAMMA], f.u(GAMMA)))
         .collect();
-    let Some((mut omega0, birge)) = weighted_mean(&omegas) else {
-        return Err(AnalysisError::NoPeriod {
-            min: opts.min_periods,
-            period: t_fft,
-        });
-    };
+    let (mut omega0, birge) = weighted_mean(&omegas, "the segments' frequencies")?;
     if let Some(b) = birge {
         if b > 1.0 {
             omega0.u *= b;
@@ -228,51 +372,58 @@ fn combine_frequency(
             ));
         }
     }
-    let (gamma, _) = weighted_mean(&gammas).unwrap_or((Measured::exact(0.0), None));
+    let (gamma, _) = weighted_mean(&gammas, "the segments' decay rates")?;
     Ok((omega0, birge, gamma))
 }
 
 /// Segment `k` (0-based) fitted with decay rate `gamma_v` and damped angular frequency `omega_d`
-/// held.
+/// held; when that fails too, the segment is refused (no fit) with the reason in its note.
 fn fit_held(
     t: &[f64],
     y: &[f64],
     k: usize,
-    seg: &Seg,
+    seg: &mut Seg,
     gamma_v: f64,
     omega_d: f64,
     opts: &AnalysisOptions,
-) -> Result<DampedFit, AnalysisError> {
+) {
     let (a, b) = seg.idx;
     let (ts, ys) = (&t[a..b], &y[a..b]);
     if ts.len() < 8 {
-        return Err(AnalysisError::Fit {
-            segment: k + 1,
-            start: seg.start,
-            end: seg.end,
-            source: damped::FitError::TooFew { n: ts.len(), p: 4 },
-        });
+        seg.note = Some(format!(
+            "{}: refused, only {} samples after leaving out the settling time around the moves (8 needed)",
+            seg_name(k, seg),
+            ts.len()
+        ));
+        return;
     }
     let t_mid = 0.5 * (ts[0] + ts[ts.len() - 1]);
-    fit_fixed_frequency(ts, ys, seg.start, t_mid, gamma_v, omega_d, opts.fit_drift).map_err(
-        |source| AnalysisError::Fit {
-            segment: k + 1,
-            start: seg.start,
-            end: seg.end,
-            source,
-        },
-    )
+    let s = seg.start;
+    let fitter = |tt: &[f64], yy: &[f64]| {
+        fit_fixed_frequency(tt, yy, s, t_mid, gamma_v, omega_d, opts.fit_drift)
+    };
+    match robust::clip_fit(ts, ys, fitter, |f, tt| f.eval(tt)) {
+        Ok((f, out)) => {
+            seg.fit = Some(f);
+            seg.rejected = out.into_iter().map(|i| i + a).collect();
+        }
+        Err(source) => {
+            seg.note = Some(format!("{}: refused, {source}", seg_name(k, seg)));
+        }
+    }
 }
 
-/// Inverse-variance weighted mean and, with two or more values, the Birge ratio; a plain mean
-/// (uncertainty zero, no ratio) when any uncertainty is missing or zero.
-fn weighted_mean(v: &[Measured]) -> Option<(Measured, Option<f64>)> {
-    if v.is_empty() {
-        return None;
-    }
-    if v.iter().any(|m| m.u.is_nan() || m.u <= 0.0) {
-        let mean = v.iter().map(|m| m.value).sum::<f64>() / v.len() as f64;
-        return Some((Measured::new(mean, 0.0), None));
+/// Inverse-variance weighted mean and, with two or more values, the Birge ratio. Values without a
+/// positive uncertainty cannot be weighted: an error naming `what`.
+fn weighted_mean(
+    v: &[Measured],
+    what: &'static str,
+) -> Result<(Measured, Option<f64>), AnalysisError> {
+    if v.is_empty()
+        || v.iter()
+            .any(|m| m.u.is_nan() || m.u <= 0.0 || m.u.is_infinite())
+    {
+        return Err(AnalysisError::ZeroUncertainty { what });
     }
     let sw: f64 = v.iter().map(|m| 1.0 / (m.u * m.u)).sum();
     let mean = v.iter().map(|m| m.value / (m.u * m.u)).sum::<f64>() / sw;
@@ -281,5 +432,24 @@ fn weighted_mean(v: &[Measured]) -> Option<(Measured, Option<f64>)> {
         let chi2: f64 = v.iter().map(|m| ((m.value - mean) / m.u).powi(2)).sum();
         (chi2 / (v.len() as f64 - 1.0)).sqrt()
     });
-    Some((Measured::new(mean, u), birge))
+    Ok((Measured::new(mean, u), birge))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_weighted_mean_without_uncertainties_is_an_error() {
+        let v = [Measured::new(1.0, 0.1), Measured::new(2.0, 0.0)];
+        assert!(matches!(
+            weighted_mean(&v, "x"),
+            Err(AnalysisError::ZeroUncertainty { .. })
+        ));
+        // Equal weights: the plain mean, u = 0.1 / sqrt(2), Birge ratio |1 - 2| / 0.1 / sqrt(2).
+        let v = [Measured::new(1.0, 0.1), Measured::new(2.0, 0.1)];
+        let (m, b) = weighted_mean(&v, "x").unwrap();
+        assert!((m.value - 1.5).abs() < 1e-12 && (m.u - 0.1 / 2f64.sqrt()).abs() < 1e-12);
+        assert!((b.unwrap() - 10.0 / 2f64.sqrt()).abs() < 1e-9);
+    }
 }

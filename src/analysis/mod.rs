@@ -4,9 +4,10 @@
 //! masses were moved, and runs named steps in order, each with plain data in and out:
 //! 1. [`clean`]: non-finite samples dropped (and counted), the time order checked, gaps listed; gaps
 //!    are simply absent samples, so every fit uses only what was measured;
-//! 2. [`moves`]: the moves (given, or found in the trace by [`segments`]) cut the run into segments,
-//!    the [`period`] spectrum's peak giving the frequency's starting guess;
-//! 3. [`fit`]: a [`damped`]-sinusoid-plus-drift fit per segment (equilibrium, period, damping);
+//! 2. [`moves`]: the moves (logged in an [`events`] file, or found in the trace by [`segments`]) cut
+//!    the run into segments, the [`period`] spectrum's peak giving the frequency's starting guess;
+//! 3. [`fit`]: a [`damped`]-sinusoid-plus-drift fit per segment (equilibrium, period, damping), stray
+//!    samples left out by [`robust`], the moves' times refined from the data;
 //! 4. [`equilibria`]: each segment's result, with the [`turning`]-point rest point beside it, and
 //!    `theta_G` from A-B-A triples ([`gravity`]);
 //! 5. [`g_deflection`]: G by deflection, GUM and Monte Carlo ([`uncertainty`]);
@@ -20,12 +21,14 @@ pub mod clean;
 pub mod damped;
 pub mod equilibria;
 mod error;
+pub mod events;
 pub mod fit;
 pub mod g_acceleration;
 pub mod g_deflection;
 pub mod gravity;
 pub mod moves;
 pub mod period;
+pub mod robust;
 pub mod segments;
 pub mod summary;
 pub mod turning;
@@ -34,10 +37,11 @@ pub mod uncertainty;
 
 pub use clean::samples_from_track;
 pub use error::AnalysisError;
-pub use segments::{read_events, Event, EventsError};
+pub use events::{read_events, Event, EventsError};
 pub use summary::Summary;
 pub use types::{
-    AccelerationResult, Analysis, AnalysisOptions, PullCorrections, Sample, SegmentResult,
+    AccelerationResult, Analysis, AnalysisOptions, PullCorrections, RefusedSegment, Sample,
+    SegmentResult,
 };
 
 use crate::physics;
@@ -47,8 +51,8 @@ use g_acceleration::AccelerationInput;
 use gravity::Apparatus;
 use std::f64::consts::PI;
 
-/// Run the whole analysis. `events`, when given, are the segment starts (the first one's position is
-/// taken as A and positions alternate); otherwise the moves are found in the trace.
+/// Run the whole analysis. `events`, when given, are the logged mass moves (read as described in
+/// [`events`]); otherwise the moves are found in the trace.
 pub fn analyze(
     samples: &[Sample],
     setup: &Setup,
@@ -61,15 +65,15 @@ pub fn analyze(
             "setup {k} has no uncertainty: counted as exact in the budget"
         ));
     }
-    let clean = clean::clean_samples(samples, events, &mut warnings)?;
+    let clean = clean::clean_samples(samples, &mut warnings)?;
     let (t, y) = (&clean.t[..], &clean.y[..]);
-    let found = moves::find_moves(t, y, events, opts)?;
+    let found = moves::find_moves(t, y, events, opts, &mut warnings)?;
     let (moves, fitted) = fit::fit_run(t, y, &found, opts, &mut warnings)?;
     let omega0 = fitted.omega0;
     let period0 = 2.0 * PI / omega0.value;
-    let count = fitted.bounds.len();
-    let segments = equilibria::segment_results(t, y, fitted.segs, count, events, period0);
-    let deflection = equilibria::combine_equilibria(&segments, &mut warnings)?;
+    let (segments, refused) = equilibria::segment_results(t, y, fitted.segs, period0);
+    let outliers = segments.iter().map(|s| s.outliers).sum();
+    let deflection = equilibria::combine_equilibria(&segments, &refused, &mut warnings)?;
     let period = Measured::new(period0, 2.0 * PI * omega0.u / omega0.value.powi(2));
     let apparatus = Apparatus::from_setup(setup);
     let (g, g_mc) = g_deflection::g_by_deflection(&apparatus, &deflection, period, opts)?;
@@ -100,7 +104,14 @@ pub fn analyze(
         detection: found.detection,
         moves,
         moves_from_events: found.from_events,
+        moves_logged: if found.from_events {
+            found.moves.clone()
+        } else {
+            Vec::new()
+        },
         segments,
+        refused,
+        outliers,
         omega0,
         gamma: fitted.gamma,
         period,

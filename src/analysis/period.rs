@@ -19,6 +19,9 @@ pub struct SpectrumOptions {
     pub differentiate: bool,
     /// Zero padding: the FFT length is the next power of two at or above `pad` x the series length.
     pub pad: usize,
+    /// Peaks below this many cycles per longest stretch are not looked at (the window's leakage of
+    /// what detrending left sits there).
+    pub min_cycles: f64,
 }
 
 impl Default for SpectrumOptions {
@@ -27,6 +30,7 @@ impl Default for SpectrumOptions {
             breaks: Vec::new(),
             differentiate: false,
             pad: 8,
+            min_cycles: 1.5,
         }
     }
 }
@@ -130,8 +134,9 @@ pub fn spectrum(t: &[f64], y: &[f64], opts: &SpectrumOptions) -> Result<Spectrum
     let df = 1.0 / (nfft as f64 * dt);
     let freq_hz: Vec<f64> = (0..half).map(|k| k as f64 * df).collect();
     let magnitude: Vec<f64> = power.iter().map(|p| p.sqrt()).collect();
-    // Skip the bins below 1.5 cycles per record (the window's leakage of what detrending left).
-    let kmin = ((1.5 / (n as f64 * dt)) / df).ceil() as usize;
+    // Skip the bins below `min_cycles` cycles per record (the window's leakage of what detrending
+    // left).
+    let kmin = ((opts.min_cycles / (n as f64 * dt)) / df).ceil() as usize;
     let kmin = kmin.max(1);
     let peak_bin = peak_bin(&magnitude, half, kmin)?;
     Ok(Spectrum {

@@ -1,10 +1,10 @@
-//! Segments between mass moves: read from an events file (`t_s,label`, each row starts a segment) or
-//! found in the trace.
+//! Mass moves found in the trace (when no events file is given), and the refinement of a move's time
+//! from the data (for found and logged moves alike).
 //!
 //! Finding the moves uses the equation of motion: with the torque constant between moves,
 //! `theta_eq(t) = theta + (theta'' + 2 gamma theta') / omega_0^2` is constant, so it is a step function
 //! over the run whose steps are the moves. The derivatives come from a local quadratic fit over a fifth
-//! of a period around each point of a grid (a hundredth of a period apart, using only the samples
+//! of a period (at least five samples' span) around each point of a grid (a hundredth of a period apart, using only the samples
 //! present, so gaps are not bridged); the step detector is the difference between the means of
 //! `theta_eq` over one period after and one period before each grid point, whose extremes (above eight
 //! times the detector's noise, estimated robustly from differences of `theta_eq`, and above a quarter
@@ -12,98 +12,6 @@
 //! period in each window cancels the ripple the quadratic's bias leaves at the oscillation frequency.
 //! Moves closer than one period to the ends of the trace, or to each other, are not found.
 //! [`refine_move`] then sharpens each time with the exact step response of the oscillator.
-
-use crate::error::{IoError, LineError};
-use std::path::Path;
-
-/// A row of an events file: a segment starts at `t` (s).
-#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
-pub struct Event {
-    pub t: f64,
-    pub label: String,
-}
-
-/// Problems reading an events file.
-#[derive(Debug, thiserror::Error)]
-pub enum EventsError {
-    #[error(transparent)]
-    Io(#[from] IoError),
-    #[error(transparent)]
-    Parse(#[from] LineError),
-}
-
-/// Read `t_s,label` rows (a header line `t_s,label` first; `#` lines and blank lines skipped). Times
-/// must increase.
-pub fn read_events(path: &Path) -> Result<Vec<Event>, EventsError> {
-    let text = crate::textfile::read_text(path).map_err(EventsError::Io)?;
-    parse_events(&text, path)
-}
-
-/// Parse events text; `path` is only used in messages.
-pub fn parse_events(text: &str, path: &Path) -> Result<Vec<Event>, EventsError> {
-    let err = |line: usize, message: String| {
-        EventsError::Parse(LineError {
-            path: path.to_path_buf(),
-            line,
-            message,
-        })
-    };
-    let mut out: Vec<Event> = Vec::new();
-    let mut header_seen = false;
-    for (i, raw) in text.lines().enumerate() {
-        let line_no = i + 1;
-        let l = raw.trim();
-        if l.is_empty() || l.starts_with('#') {
-            continue;
-        }
-        let cells: Vec<&str> = l.splitn(2, ',').map(str::trim).collect();
-        if !header_seen {
-            if cells.first() != Some(&"t_s") {
-                return Err(err(
-                    line_no,
-                    format!("expected the header 't_s,label', found {l:?}"),
-                ));
-            }
-            header_seen = true;
-            continue;
-        }
-        let t: f64 = cells[0]
-            .parse()
-            .ok()
-            .filter(|v: &f64| v.is_finite())
-            .ok_or_else(|| {
-                err(
-                    line_no,
-                    format!(
-                        "column 't_s': {:?} is not a finite number of seconds",
-                        cells[0]
-                    ),
-                )
-            })?;
-        if let Some(prev) = out.last() {
-            if t <= prev.t {
-                return Err(err(
-                    line_no,
-                    format!(
-                        "time {t} s is not after the previous event ({} s); list events in time order",
-                        prev.t
-                    ),
-                ));
-            }
-        }
-        out.push(Event {
-            t,
-            label: cells.get(1).copied().unwrap_or("").to_string(),
-        });
-    }
-    if !header_seen {
-        return Err(err(
-            1,
-            "empty file: expected a header line 't_s,label'".into(),
-        ));
-    }
-    Ok(out)
-}
 
 /// The step detector's output, kept for the report.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -183,7 +91,10 @@ pub fn detect_moves(t: &[f64], y: &[f64], period: f64, gamma: f64) -> Detection 
 fn equilibrium_grid(t: &[f64], y: &[f64], period: f64, gamma: f64, dg: f64) -> Vec<Option<f64>> {
     let n = t.len().min(y.len());
     let w0 = 2.0 * std::f64::consts::PI / period;
-    let h = period / 10.0;
+    // A fifth of a period, or wide enough for five samples when the sampling is sparse (the
+    // quadratic's larger bias is a ripple at the oscillation frequency, which the detector's
+    // one-period windows cancel).
+    let h = (period / 10.0).max(2.6 * median_spacing(t));
     let (ta, tb) = (t[0], t[n - 1]);
     let m = ((tb - ta) / dg).floor() as usize + 1;
     let mut eq: Vec<Option<f64>> = Vec::with_capacity(m);
@@ -199,6 +110,13 @@ fn equilibrium_grid(t: &[f64], y: &[f64], period: f64, gamma: f64, dg: f64) -> V
         );
     }
     eq
+}
+
+/// Median spacing of the sample times, s.
+fn median_spacing(t: &[f64]) -> f64 {
+    let mut d: Vec<f64> = t.windows(2).map(|w| w[1] - w[0]).collect();
+    d.sort_by(f64::total_cmp);
+    d[d.len() / 2]
 }
 
 /// The detector on the grid (first point at `ta`, spacing `dg`): the mean equilibrium over one
@@ -290,8 +208,10 @@ fn pick_moves(grid_t: &[f64], step: &[f64], threshold: f64, dg: f64, period: f64
 /// Refine a move's time near `guess` using the samples in `[lo, hi]` (kept within one period of it):
 /// the trace there is fitted as a free oscillation plus the exact response to a torque step at `t_m`,
 /// `Delta (1 - e^(-gamma s) (cos omega_d s + (gamma / omega_d) sin omega_d s))`, `s = t - t_m`, all
-/// amplitudes linear; `t_m` is scanned over a tenth of a period either side of `guess` and the lowest
-/// residual is refined by a parabola. `None` when there are too few samples.
+/// amplitudes linear; `t_m` is scanned over `reach` periods either side of `guess` (in steps of a
+/// 400th of a period) and the lowest residual is refined by a parabola. `None` when there are too few
+/// samples, or when the lowest residual lies at the end of the scan (the step is not in reach).
+#[allow(clippy::too_many_arguments)]
 pub fn refine_move(
     t: &[f64],
     y: &[f64],
@@ -300,6 +220,7 @@ pub fn refine_move(
     hi: f64,
     gamma: f64,
     omega_d: f64,
+    reach: f64,
 ) -> Option<f64> {
     if omega_d.is_nan() || omega_d <= 0.0 {
         return None;
@@ -313,38 +234,10 @@ pub fn refine_move(
     }
     let (ts, ys) = (&t[a..b], &y[a..b]);
     let ym = ys.iter().sum::<f64>() / ys.len() as f64;
-    let rss_at = |tm: f64| -> Option<f64> {
-        let mut m = nalgebra::Matrix4::<f64>::zeros();
-        let mut r = nalgebra::Vector4::<f64>::zeros();
-        let rows: Vec<nalgebra::Vector4<f64>> = ts
-            .iter()
-            .map(|&tt| {
-                let e = (-gamma * (tt - lo)).exp();
-                let (sn, cs) = (omega_d * (tt - lo)).sin_cos();
-                let s = tt - tm;
-                let step = if s >= 0.0 {
-                    let (ss, cc) = (omega_d * s).sin_cos();
-                    1.0 - (-gamma * s).exp() * (cc + gamma / omega_d * ss)
-                } else {
-                    0.0
-                };
-                nalgebra::Vector4::new(1.0, e * cs, e * sn, step)
-            })
-            .collect();
-        for (v, &yy) in rows.iter().zip(ys) {
-            m += v * v.transpose();
-            r += v * (yy - ym);
-        }
-        let c = m.try_inverse()? * r;
-        Some(
-            rows.iter()
-                .zip(ys)
-                .map(|(v, &yy)| (v.dot(&c) - (yy - ym)).powi(2))
-                .sum(),
-        )
-    };
+    let rss_at = |tm: f64| step_rss(ts, ys, ym, lo, tm, gamma, omega_d);
     let step = period / 400.0;
-    let cand: Vec<(f64, f64)> = (-40..=40)
+    let half = (reach * 400.0).round().max(1.0) as i64;
+    let cand: Vec<(f64, f64)> = (-half..=half)
         .map(|k| guess + k as f64 * step)
         .filter(|&tm| tm > ts[0] && tm < ts[ts.len() - 1])
         .filter_map(|tm| rss_at(tm).map(|r| (tm, r)))
@@ -362,6 +255,9 @@ pub fn refine_move(
                 (bk, bv)
             }
         });
+    if kb == 0 || kb + 1 == cand.len() {
+        return None;
+    }
     let mut tm = cand[kb].0;
     if kb > 0 && kb + 1 < cand.len() {
         let (r0, r1, r2) = (cand[kb - 1].1, cand[kb].1, cand[kb + 1].1);
@@ -373,25 +269,43 @@ pub fn refine_move(
     Some(tm)
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn events_file_errors_name_the_line() {
-        let p = Path::new("ev.csv");
-        let ok = parse_events("t_s,label\n# comment\n0,A\n1200.5,B\n", p).unwrap();
-        assert_eq!(ok.len(), 2);
-        assert_eq!(ok[1].label, "B");
-        let e = parse_events("t_s,label\n0,A\nsoon,B\n", p)
-            .unwrap_err()
-            .to_string();
-        assert!(e.contains("line 3") && e.contains("soon"), "{e}");
-        let e = parse_events("t_s,label\n10,A\n5,B\n", p)
-            .unwrap_err()
-            .to_string();
-        assert!(e.contains("line 3") && e.contains("time order"), "{e}");
-        let e = parse_events("time,label\n", p).unwrap_err().to_string();
-        assert!(e.contains("line 1"), "{e}");
+/// Residual sum of squares of `(ts, ys - ym)` against a free oscillation (origin `lo`) plus the exact
+/// response to a torque step at `tm`, all amplitudes linear.
+fn step_rss(
+    ts: &[f64],
+    ys: &[f64],
+    ym: f64,
+    lo: f64,
+    tm: f64,
+    gamma: f64,
+    omega_d: f64,
+) -> Option<f64> {
+    let mut m = nalgebra::Matrix4::<f64>::zeros();
+    let mut r = nalgebra::Vector4::<f64>::zeros();
+    let rows: Vec<nalgebra::Vector4<f64>> = ts
+        .iter()
+        .map(|&tt| {
+            let e = (-gamma * (tt - lo)).exp();
+            let (sn, cs) = (omega_d * (tt - lo)).sin_cos();
+            let s = tt - tm;
+            let step = if s >= 0.0 {
+                let (ss, cc) = (omega_d * s).sin_cos();
+                1.0 - (-gamma * s).exp() * (cc + gamma / omega_d * ss)
+            } else {
+                0.0
+            };
+            nalgebra::Vector4::new(1.0, e * cs, e * sn, step)
+        })
+        .collect();
+    for (v, &yy) in rows.iter().zip(ys) {
+        m += v * v.transpose();
+        r += v * (yy - ym);
     }
+    let c = m.try_inverse()? * r;
+    Some(
+        rows.iter()
+            .zip(ys)
+            .map(|(v, &yy)| (v.dot(&c) - (yy - ym)).powi(2))
+            .sum(),
+    )
 }

@@ -92,6 +92,16 @@ impl<'a> Summary<'a> {
         if a.segments.len() > 12 {
             writeln!(f, "  ... {} more in segments.csv", a.segments.len() - 12)?;
         }
+        for r in &a.refused {
+            writeln!(f, "  refused: {}", r.reason)?;
+        }
+        if a.outliers > 0 {
+            writeln!(
+                f,
+                "  {} stray samples left out of the fits (see the segments' outliers)",
+                a.outliers
+            )?;
+        }
         Ok(())
     }
 

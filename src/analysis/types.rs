@@ -26,6 +26,14 @@ pub struct AnalysisOptions {
     /// Samples within this many periods of a move found in the trace are left out of the fits (the
     /// found time is uncertain by a small fraction of a period).
     pub detect_guard_periods: f64,
+    /// Samples within this many periods after each move are left out of the fits while the masses
+    /// come to rest (and, for logged moves, also before each move until its time is refined).
+    pub settle_periods: f64,
+    /// A logged move's time is refined from the data within this many periods of the logged time
+    /// (0: used as logged).
+    pub refine_reach_periods: f64,
+    /// Name of the events file, for messages.
+    pub events_file: Option<String>,
     /// Monte Carlo draws (JCGM 101 asks for at least 1e5 for a 95 % interval to two digits).
     pub mc_draws: usize,
     pub mc_seed: u64,
@@ -38,6 +46,9 @@ impl Default for AnalysisOptions {
             min_periods: 1.5,
             accel_window_periods: 0.5,
             detect_guard_periods: 0.05,
+            settle_periods: 0.1,
+            refine_reach_periods: 0.25,
+            events_file: None,
             mc_draws: 200_000,
             mc_seed: 20_181,
         }
@@ -56,6 +67,8 @@ pub struct SegmentResult {
     pub t_ref: f64,
     /// Samples fitted.
     pub points: usize,
+    /// Stray samples left out of the fit (residual over five robust standard deviations).
+    pub outliers: usize,
     /// Fitted equilibrium, rad.
     pub equilibrium: Measured,
     /// Natural period from this segment's own fit, s (`None` when too short).
@@ -71,6 +84,17 @@ pub struct SegmentResult {
     /// Rest point from the turning points, rad.
     pub turning_rest: Option<Measured>,
     pub fit: DampedFit,
+}
+
+/// A segment that gave no equilibrium, and why.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct RefusedSegment {
+    pub index: usize,
+    pub label: String,
+    /// Segment start and end, s.
+    pub start: f64,
+    pub end: f64,
+    pub reason: String,
 }
 
 /// G by the initial-acceleration method.
@@ -98,7 +122,13 @@ pub struct Analysis {
     /// Times of the mass moves between segments, s.
     pub moves: Vec<f64>,
     pub moves_from_events: bool,
+    /// The moves' times as logged in the events file, s (empty when found in the trace).
+    pub moves_logged: Vec<f64>,
     pub segments: Vec<SegmentResult>,
+    /// Segments that gave no equilibrium, each with its reason.
+    pub refused: Vec<RefusedSegment>,
+    /// Stray samples left out of the segment fits, in all.
+    pub outliers: usize,
     /// Combined natural angular frequency, rad/s.
     pub omega0: Measured,
     /// Combined decay rate, 1/s.

@@ -17,9 +17,18 @@ pub struct AnalyzeArgs {
     /// Apparatus description (TOML; every quantity "value ± u unit").
     #[arg(long)]
     pub setup: PathBuf,
-    /// Segment starts, CSV with header `t_s,label` (one row per segment); found in the trace if absent.
+    /// Mass moves, CSV with header `t_s,label`: one row per move, the time and the position moved to
+    /// (A, B, or `move` for "the other one"); a row at the track's start names the starting position.
+    /// Found in the trace if absent.
     #[arg(long)]
     pub events: Option<PathBuf>,
+    /// Time left out of the fits after each move while the masses come to rest, in periods.
+    #[arg(long, default_value_t = 0.1, value_name = "PERIODS")]
+    pub settle: f64,
+    /// How far from its logged time a move is looked for in the data, in periods (0: use the logged
+    /// times as they are).
+    #[arg(long, default_value_t = 0.25, value_name = "PERIODS")]
+    pub search: f64,
     /// Output folder (created if needed).
     #[arg(long)]
     pub out: PathBuf,
@@ -37,6 +46,14 @@ pub fn run(args: AnalyzeArgs, mut outputs: Outputs) -> anyhow::Result<()> {
         outputs.input(p);
     }
     outputs.claim_in(&args.out, RESULT_FILES, "--out")?;
+    for (name, v, most) in [
+        ("--settle", args.settle, 1.0),
+        ("--search", args.search, 0.5),
+    ] {
+        if !(0.0..=most).contains(&v) {
+            anyhow::bail!("{name} {v}: give a number of periods from 0 to {most}");
+        }
+    }
     let setup = Setup::load(&args.setup)?;
     let track = read_track(&args.track)?;
     track.check_time_order(&args.track)?;
@@ -49,6 +66,9 @@ pub fn run(args: AnalyzeArgs, mut outputs: Outputs) -> anyhow::Result<()> {
     };
     let opts = AnalysisOptions {
         fit_drift: !args.no_drift,
+        settle_periods: args.settle,
+        refine_reach_periods: args.search,
+        events_file: args.events.as_ref().map(|p| p.display().to_string()),
         mc_draws: usize::try_from(args.draws)?,
         ..Default::default()
     };

@@ -42,9 +42,11 @@ pub fn periods_from_track(path: &Path) -> Result<TrackPeriods, PlanError> {
     let (t, y) = swing_of(&track);
     let whole = fit_period(path, &t, &y);
     let moves = match &whole {
-        Ok(_) => crate::analysis::moves::find_moves(&t, &y, None, &Default::default())
-            .map(|m| (m.moves, m.guard))
-            .unwrap_or_default(),
+        Ok(_) => {
+            crate::analysis::moves::find_moves(&t, &y, None, &Default::default(), &mut Vec::new())
+                .map(|m| (m.moves, m.guard))
+                .unwrap_or_default()
+        }
         Err(_) => (Vec::new(), 0.0),
     };
     if moves.0.is_empty() {

@@ -64,15 +64,13 @@ pub fn run(segments: usize, seg_periods: f64, dt: f64, noise: f64, drift: f64, s
         .into_iter()
         .map(|(t, theta)| Sample { t, theta })
         .collect();
-    let events = std::iter::once(Event {
-        t: 0.0,
-        label: "A".into(),
-    })
-    .chain(cfg.moves.iter().map(|m| Event {
-        t: m.t,
-        label: format!("{:?}", m.to),
-    }))
-    .collect();
+    let events = std::iter::once(Event::new(0.0, "A"))
+        .chain(
+            cfg.moves
+                .iter()
+                .map(|m| Event::new(m.t, &format!("{:?}", m.to))),
+        )
+        .collect();
     Run {
         trajectory,
         samples,
