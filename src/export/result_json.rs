@@ -38,11 +38,9 @@ fn vu(value: f64, u: f64) -> Value {
     json!({"value": finite(value), "u": finite(u)})
 }
 
-/// The result document.
-pub fn result_value(a: &Analysis) -> Value {
-    let unit_g = "m^3 kg^-1 s^-2";
-    let segments: Vec<Value> = a
-        .segments
+/// One object per fitted segment.
+fn segments_value(a: &Analysis) -> Vec<Value> {
+    a.segments
         .iter()
         .map(|s| {
             json!({
@@ -62,7 +60,13 @@ pub fn result_value(a: &Analysis) -> Value {
                 "note": s.note,
             })
         })
-        .collect();
+        .collect()
+}
+
+/// The result document.
+pub fn result_value(a: &Analysis) -> Value {
+    let unit_g = "m^3 kg^-1 s^-2";
+    let segments = segments_value(a);
     let budget: Vec<Value> =
         a.g.budget
             .iter()
