@@ -154,10 +154,16 @@ fn a_stalled_ffmpeg_keeps_the_first_row() {
         .arg(&out)
         .arg(b.p("clip.mp4"))
         .env("PATH", std::env::join_paths(dirs).unwrap())
-        .env("SPOTLEVER_FFMPEG_STALL_S", "2")
+        .env("SPOTLEVER_FFMPEG_STALL_S", "4")
         .stdin(Stdio::null()));
     assert_eq!(ran.code(), Some(1), "{}", ran.stderr);
-    let text = fs::read_to_string(&out).unwrap();
+    assert!(
+        ran.stderr.contains("after 1 frames"),
+        "the run should stop on the stall after its first frame:\n{}",
+        ran.stderr
+    );
+    let text = fs::read_to_string(&out)
+        .unwrap_or_else(|e| panic!("{}: {e}\nstderr:\n{}", out.display(), ran.stderr));
     let rows: Vec<&str> = text.lines().skip(1).collect();
     assert_eq!(rows.len(), 1, "{text}");
     assert!(rows[0].starts_with("0,"), "{text}");

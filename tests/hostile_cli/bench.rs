@@ -176,5 +176,28 @@ pub fn stalling_ffmpeg(dir: &Path) -> PathBuf {
             fs::set_permissions(&p, fs::Permissions::from_mode(0o755)).unwrap();
         }
     }
+    warm_up(&real("ffprobe"), &real("ffmpeg"), &dir.join("clip.mp4"));
     bin_dir
+}
+
+/// Run the real ffprobe and ffmpeg once on `clip`, so that the timed cases do not also time a cold
+/// start (on a fresh machine the first start reads the programs' libraries from disk, which can take
+/// longer than the short stall limits the cases set).
+fn warm_up(ffprobe: &Path, ffmpeg: &Path, clip: &Path) {
+    let quiet = |c: &mut std::process::Command| {
+        c.stdin(std::process::Stdio::null())
+            .stdout(std::process::Stdio::null())
+            .stderr(std::process::Stdio::null())
+            .status()
+            .map(|s| s.success())
+            .unwrap_or(false)
+    };
+    let probed = quiet(std::process::Command::new(ffprobe).arg(clip));
+    let decoded = quiet(
+        std::process::Command::new(ffmpeg)
+            .args(["-v", "error", "-i"])
+            .arg(clip)
+            .args(["-frames:v", "1", "-f", "null", "-"]),
+    );
+    assert!(probed && decoded, "the real ffprobe/ffmpeg failed on {}", clip.display());
 }
