@@ -452,4 +452,38 @@ mod tests {
         assert!((m.value - 1.5).abs() < 1e-12 && (m.u - 0.1 / 2f64.sqrt()).abs() < 1e-12);
         assert!((b.unwrap() - 10.0 / 2f64.sqrt()).abs() < 1e-9);
     }
+
+    #[test]
+    fn a_period_far_from_the_spectrum_is_refused_by_name() {
+        let fit = |period: f64| DampedFit {
+            params: [0.0, 1e-3, 0.0, 0.0, 2.0 * PI / period, 0.0],
+            cov: [[1e-12; 6]; 6],
+            t0: 0.0,
+            t_mid: 0.0,
+            n: 500,
+            n_free: 6,
+            rms: 1e-6,
+            frequency_fixed: false,
+        };
+        let seg = |period: f64| Seg {
+            idx: (0, 500),
+            start: 0.0,
+            end: 1500.0,
+            label: "A".into(),
+            long: true,
+            fit: Some(fit(period)),
+            rejected: Vec::new(),
+            note: None,
+        };
+        // 4000 s against a 500 s spectrum peak is refused; 520 s is kept for the Birge ratio to judge.
+        let mut segs = vec![seg(520.0), seg(4000.0)];
+        refuse_stray_periods(&mut segs, 500.0);
+        assert!(segs[0].fit.is_some() && segs[0].long);
+        assert!(segs[1].fit.is_none() && !segs[1].long);
+        let note = segs[1].note.as_deref().unwrap();
+        assert!(
+            note.starts_with("segment 2 (A,") && note.contains("4000.0 s"),
+            "{note}"
+        );
+    }
 }
