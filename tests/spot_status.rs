@@ -407,3 +407,41 @@ fn studio_range_luma_reads_as_its_widened_values() {
         assert_eq!(ta, tb, "frame {f}");
     }
 }
+
+/// Every status name written to the track CSV reads back as itself, and only `ok` and `saturated`
+/// carry a position the analysis may use (the table in README.md).
+#[test]
+fn status_names_round_trip_and_only_ok_and_saturated_have_positions() {
+    let all = [
+        (SpotStatus::Ok, "ok", true),
+        (SpotStatus::Saturated, "saturated", true),
+        (SpotStatus::Lost, "lost", false),
+        (SpotStatus::Weak, "weak", false),
+        (SpotStatus::Ambiguous, "ambiguous", false),
+        (SpotStatus::Unreadable, "unreadable", false),
+    ];
+    for (status, name, usable) in all {
+        assert_eq!(status.as_str(), name);
+        assert_eq!(SpotStatus::parse(name), Some(status));
+        assert_eq!(status.has_position(), usable, "{name}");
+    }
+    assert_eq!(SpotStatus::parse("blocked"), None);
+}
+
+/// A dark patch (a shadow on the screen) stands out of its surroundings only as a deficit: no
+/// light, so never a spot, whatever its contrast.
+#[test]
+fn a_shadow_is_never_a_spot() {
+    let dark = |x: f64, y: f64| {
+        let r2 = (x - 80.0).powi(2) + (y - 60.0).powi(2);
+        100.0 - 60.0 * (-r2 / (2.0 * 9.0)).exp()
+    };
+    let plane = plane_with(160, 120, &[], 2.5, dark, 7);
+    let fix = locate(&plane, &SpotConfig::default());
+    assert!(!fix.status.has_position(), "{fix:?}");
+    let mut tracker = Tracker::new(SpotConfig::default());
+    for _ in 0..3 {
+        let fix = tracker.process(&plane);
+        assert!(!fix.status.has_position(), "{fix:?}");
+    }
+}

@@ -54,6 +54,9 @@ pub enum SpotStatus {
     Saturated,
     /// No spot stands out of the background.
     Lost,
+    /// Something stands out, but far too faint or small for the run's spot (a blocked or half-blocked
+    /// beam, a stray reflection); no position is given.
+    Weak,
     /// Two comparable spots exist; the position is the stronger one's and should not be trusted.
     Ambiguous,
     /// The frame itself could not be decoded.
@@ -66,6 +69,7 @@ impl SpotStatus {
             SpotStatus::Ok => "ok",
             SpotStatus::Saturated => "saturated",
             SpotStatus::Lost => "lost",
+            SpotStatus::Weak => "weak",
             SpotStatus::Ambiguous => "ambiguous",
             SpotStatus::Unreadable => "unreadable",
         }
@@ -75,6 +79,7 @@ impl SpotStatus {
             "ok" => SpotStatus::Ok,
             "saturated" => SpotStatus::Saturated,
             "lost" => SpotStatus::Lost,
+            "weak" => SpotStatus::Weak,
             "ambiguous" => SpotStatus::Ambiguous,
             "unreadable" => SpotStatus::Unreadable,
             _ => return None,
@@ -309,8 +314,13 @@ pub(crate) fn judge_tracked(fix: SpotFix, config: &SpotConfig) -> SpotFix {
     )
 }
 
+/// A spot is kept only when it stands out and its light is real: a negative integral or a
+/// non-positive peak means the background was brighter than the "spot" (a shadow, a dark stripe), which
+/// no laser spot can make.
 fn judge_with(fix: SpotFix, stands_out: bool) -> SpotFix {
-    if stands_out && fix.position.is_some() {
+    let real_light =
+        fix.integral.is_finite() && fix.integral > 0.0 && fix.peak.is_finite() && fix.peak > 0.0;
+    if stands_out && real_light && fix.position.is_some() {
         fix
     } else {
         SpotFix {

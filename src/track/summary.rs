@@ -11,6 +11,7 @@ pub struct RunSummary {
     pub ok: u64,
     pub saturated: u64,
     pub lost: u64,
+    pub weak: u64,
     pub ambiguous: u64,
     pub unreadable: u64,
     pub elapsed: Duration,
@@ -32,6 +33,7 @@ impl RunSummary {
             SpotStatus::Ok => self.ok += 1,
             SpotStatus::Saturated => self.saturated += 1,
             SpotStatus::Lost => self.lost += 1,
+            SpotStatus::Weak => self.weak += 1,
             SpotStatus::Ambiguous => self.ambiguous += 1,
             SpotStatus::Unreadable => self.unreadable += 1,
         }
@@ -42,13 +44,14 @@ impl std::fmt::Display for RunSummary {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         write!(
             f,
-            "{} frames in {:.1} s ({:.1} frames/s): {} ok, {} saturated, {} lost, {} ambiguous, {} unreadable",
+            "{} frames in {:.1} s ({:.1} frames/s): {} ok, {} saturated, {} lost, {} weak, {} ambiguous, {} unreadable",
             self.frames,
             self.elapsed.as_secs_f64(),
             self.speed(),
             self.ok,
             self.saturated,
             self.lost,
+            self.weak,
             self.ambiguous,
             self.unreadable
         )
