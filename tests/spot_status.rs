@@ -319,6 +319,13 @@ fn a_followed_spot_dimming_below_the_search_threshold_is_kept() {
         let p = plane_with(96, 96, &[(c, 160.0)], 2.5, |_, _| 40.0, 300 + f);
         assert_eq!(tracker.process(&p).status, SpotStatus::Ok, "frame {f}");
     }
+    // The laser dims by a fifth a frame (a spot that loses nine tenths of its light at once is a
+    // blocked beam: `a_spot_with_a_few_percent_of_the_runs_light_is_weak`).
+    for k in 1..=10 {
+        let peak = 160.0 * 0.8f64.powi(k);
+        let p = plane_with(96, 96, &[(c, peak)], 2.5, |_, _| 40.0, 310 + k as u64);
+        assert_eq!(tracker.process(&p).status, SpotStatus::Ok, "peak {peak:.1}");
+    }
     // Peak 4.5 noise figures: below min_snr (6) for a fresh search, above half of it, and the whole
     // spot is 4.5 sqrt(pi) 2.5 = 20 standard errors strong.
     let dim = plane_with(96, 96, &[(c, 13.5)], 2.5, |_, _| 40.0, 400);
@@ -444,4 +451,41 @@ fn a_shadow_is_never_a_spot() {
         let fix = tracker.process(&plane);
         assert!(!fix.status.has_position(), "{fix:?}");
     }
+}
+
+/// A run's spot that suddenly carries a few percent of its light (the beam blocked, scattered light
+/// left on the screen) is `weak`, without a position, although the same faint patch seen alone
+/// would pass for a spot; when the beam returns it is found again.
+#[test]
+fn a_spot_with_a_few_percent_of_the_runs_light_is_weak() {
+    let at = |x: f64| PixelPoint { x, y: 60.0 };
+    // Light in proportion to peak x sigma^2: 20 x 2.5^2 against 200 x 4^2, 3.9 %.
+    let bright = |i: u64| {
+        plane_with(
+            160,
+            120,
+            &[(at(70.0 + i as f64), 200.0)],
+            4.0,
+            |_, _| 40.0,
+            i,
+        )
+    };
+    let faint = |i: u64| plane_with(160, 120, &[(at(80.0), 20.0)], 2.5, |_, _| 40.0, 100 + i);
+    let alone = locate(&faint(0), &SpotConfig::default());
+    assert!(
+        alone.status.has_position(),
+        "precondition: the faint patch alone passes for a spot: {alone:?}"
+    );
+    let mut tracker = Tracker::new(SpotConfig::default());
+    for i in 0..10 {
+        let fix = tracker.process(&bright(i));
+        assert!(fix.status.has_position(), "bright frame {i}: {fix:?}");
+    }
+    for i in 0..5 {
+        let fix = tracker.process(&faint(i));
+        assert_eq!(fix.status, SpotStatus::Weak, "faint frame {i}: {fix:?}");
+        assert!(fix.position.is_none());
+    }
+    let back = tracker.process(&bright(3));
+    assert!(back.status.has_position(), "beam back: {back:?}");
 }

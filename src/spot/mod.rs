@@ -31,6 +31,7 @@ mod fit;
 mod learned;
 mod measure;
 mod search;
+mod strength;
 mod tracker;
 mod view;
 

@@ -3,6 +3,7 @@
 
 use super::background::{BackgroundFollower, LocalBackground};
 use super::learned::ScreenModel;
+use super::strength::RunStrength;
 use super::view::{Img, Pixel, Rect};
 use super::{
     full_search, judge_tracked, measure, with_image, ImageJob, SpotConfig, SpotFix, SpotStatus,
@@ -16,6 +17,9 @@ use crate::units::PixelPoint;
 /// otherwise the spot is looked for within `track_radius_px` of where it is predicted to be (last
 /// position plus last step). If it is not found there, or sits at the window's edge, a full search
 /// follows in the same frame. A change of image size starts afresh.
+///
+/// A spot whose light is far below that of the spots found lately is `weak` and given no position
+/// (see [`super::strength`]): a blocked beam does not become data.
 #[derive(Debug, Clone)]
 pub struct Tracker {
     config: SpotConfig,
@@ -23,6 +27,7 @@ pub struct Tracker {
     previous: Option<PixelPoint>,
     background: BackgroundFollower,
     screen: ScreenModel,
+    strength: RunStrength,
     since_search: u32,
     size: (usize, usize),
 }
@@ -35,6 +40,7 @@ impl Tracker {
             previous: None,
             background: BackgroundFollower::default(),
             screen: ScreenModel::default(),
+            strength: RunStrength::default(),
             since_search: 0,
             size: (0, 0),
         }
@@ -66,6 +72,7 @@ impl Tracker {
     fn process_image<P: Pixel>(&mut self, img: &Img<P>) -> SpotFix {
         if self.size != (img.w, img.h) {
             self.reset();
+            self.strength.reset();
             self.size = (img.w, img.h);
         }
         let Some(rect) = Rect::for_image(img.w, img.h, self.config.roi) else {
@@ -78,7 +85,7 @@ impl Tracker {
             Some(last) if !due => self.track(img, &rect, last),
             _ => None,
         };
-        let fix = match tracked {
+        let found = match tracked {
             Some(fix) => {
                 self.since_search += 1;
                 fix
@@ -94,6 +101,7 @@ impl Tracker {
                 fix
             }
         };
+        let fix = self.weigh(found);
         match fix.position {
             Some(p) if fix.status.has_position() || fix.status == SpotStatus::Ambiguous => {
                 self.previous = self.last;
@@ -112,6 +120,23 @@ impl Tracker {
                 self.background.reset();
             }
         }
+        fix
+    }
+
+    /// A found spot with far less light than the run's is `weak`, without a position; a kept one
+    /// joins the run's strength.
+    fn weigh(&mut self, fix: SpotFix) -> SpotFix {
+        if !fix.status.has_position() {
+            return fix;
+        }
+        if self.strength.is_weak(fix.integral) {
+            return SpotFix {
+                position: None,
+                status: SpotStatus::Weak,
+                ..fix
+            };
+        }
+        self.strength.learn(fix.integral);
         fix
     }
 

@@ -199,5 +199,9 @@ fn warm_up(ffprobe: &Path, ffmpeg: &Path, clip: &Path) {
             .arg(clip)
             .args(["-frames:v", "1", "-f", "null", "-"]),
     );
-    assert!(probed && decoded, "the real ffprobe/ffmpeg failed on {}", clip.display());
+    assert!(
+        probed && decoded,
+        "the real ffprobe/ffmpeg failed on {}",
+        clip.display()
+    );
 }
