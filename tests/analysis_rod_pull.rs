@@ -4,7 +4,10 @@
 //! torques summed about the fibre, and the beam's motion integrated with a fourth-order Runge-Kutta step
 //! through mass moves. G is CODATA 2018 (6.674 30e-11 m^3 kg^-1 s^-2).
 
-use spotlever::analysis::{analyze, AnalysisOptions, Event, Sample};
+mod newton_beam;
+
+use newton_beam::{beam_points, integrated_run, sources, torque};
+use spotlever::analysis::{analyze, AnalysisOptions};
 use spotlever::physics::G_CODATA_2018;
 use spotlever::setup::Setup;
 use std::path::Path;
@@ -27,61 +30,9 @@ zero = "0 ± 0.5 mm"
 scale = "flat"
 "#;
 
-const SMALL_MASS: f64 = 0.015;
-const SMALL_RADIUS: f64 = 0.0075;
-const ARM: f64 = 0.05;
-const ROD_MASS: f64 = 0.010;
-const ROD_LENGTH: f64 = 0.1;
-const LARGE_MASS: f64 = 1.5;
-const SEPARATION: f64 = 0.0465;
-
 fn setup(rod_height_mm: f64) -> Setup {
     let text = SETUP.replace("ROD_HEIGHT", &format!("{rod_height_mm} mm"));
     Setup::parse(&text, Path::new("heavy-rod.toml")).unwrap()
-}
-
-/// The beam as point masses `(x along the beam, height, mass)`: two small spheres (a sphere pulls and
-/// is pulled as a point) and the rod cut into `n` equal pieces at their midpoints.
-fn beam_points(rod_height: f64, n: usize) -> Vec<(f64, f64, f64)> {
-    let mut v = vec![(ARM, 0.0, SMALL_MASS), (-ARM, 0.0, SMALL_MASS)];
-    for i in 0..n {
-        let x = -ROD_LENGTH / 2.0 + ROD_LENGTH * (i as f64 + 0.5) / n as f64;
-        v.push((x, rod_height, ROD_MASS / n as f64));
-    }
-    v
-}
-
-/// Torque about the fibre (z) on the beam turned by `psi` in the laboratory, from large spheres at
-/// `sources` (x, y in the spheres' plane): the z component of `r x F` summed over the points.
-fn torque(points: &[(f64, f64, f64)], sources: &[[f64; 2]], psi: f64) -> f64 {
-    let (c, s) = (psi.cos(), psi.sin());
-    let mut tau = 0.0;
-    for &(x, z, m) in points {
-        let p = [x * c, x * s, z];
-        for q in sources {
-            let d = [q[0] - p[0], q[1] - p[1], -p[2]];
-            let r = (d[0] * d[0] + d[1] * d[1] + d[2] * d[2]).sqrt();
-            let f = G_CODATA_2018 * LARGE_MASS * m / (r * r * r);
-            tau += p[0] * f * d[1] - p[1] * f * d[0];
-        }
-    }
-    tau
-}
-
-/// The large spheres' laboratory positions for mass position A, placed so that with the beam at rest
-/// at `psi_a` each sits `SEPARATION` from its small sphere, square to the arm; B is A mirrored in the
-/// beam's untwisted line.
-fn sources(psi_a: f64, b: bool) -> [[f64; 2]; 2] {
-    let (c, s) = (psi_a.cos(), psi_a.sin());
-    let at = |x: f64, y: f64| {
-        let p = [x * c - y * s, x * s + y * c];
-        if b {
-            [p[0], -p[1]]
-        } else {
-            p
-        }
-    };
-    [at(ARM, SEPARATION), at(-ARM, -SEPARATION)]
 }
 
 #[test]
@@ -114,55 +65,10 @@ fn pull_and_stiffness_match_a_direct_sum() {
     }
 }
 
-/// A run of the beam under the full pull, integrated here: `I psi'' = -kappa psi - 2 I gamma psi' +
-/// tau(psi)`, the masses moved every `seg` s (A, B, A, ...), starting at rest at A's equilibrium.
-fn integrated_run(segments: usize, seg: f64, period_guess: f64) -> (Vec<Sample>, Vec<Event>) {
-    let inertia = ROD_MASS * ROD_LENGTH * ROD_LENGTH / 12.0
-        + 2.0 * SMALL_MASS * (ARM * ARM + 0.4 * SMALL_RADIUS * SMALL_RADIUS);
-    let kappa = inertia * (2.0 * std::f64::consts::PI / period_guess).powi(2);
-    let gamma = 1.0 / 2000.0;
-    let points = beam_points(0.0, 400);
-    // The equilibrium at A: the fibre holds the pull of spheres placed `SEPARATION` from the beam at
-    // rest there, so psi_a = tau / kappa with the torque of that placement (independent of psi_a).
-    let tau_rest = torque(&points, &sources(0.0, false), 0.0);
-    let psi_a = tau_rest / kappa;
-    let src = [sources(psi_a, false), sources(psi_a, true)];
-    let accel = |psi: f64, w: f64, which: usize| {
-        (-kappa * psi - 2.0 * inertia * gamma * w + torque(&points, &src[which], psi)) / inertia
-    };
-    let (dt, every) = (1.0, 10);
-    let (mut psi, mut w) = (psi_a, 0.0);
-    let mut samples = Vec::new();
-    let steps = (segments as f64 * seg / dt).round() as usize;
-    for i in 0..=steps {
-        let t = i as f64 * dt;
-        let which = ((t / seg).floor() as usize).min(segments - 1) % 2;
-        if i % every == 0 {
-            samples.push(Sample { t, theta: psi });
-        }
-        let k1 = (w, accel(psi, w, which));
-        let k2 = (
-            w + 0.5 * dt * k1.1,
-            accel(psi + 0.5 * dt * k1.0, w + 0.5 * dt * k1.1, which),
-        );
-        let k3 = (
-            w + 0.5 * dt * k2.1,
-            accel(psi + 0.5 * dt * k2.0, w + 0.5 * dt * k2.1, which),
-        );
-        let k4 = (w + dt * k3.1, accel(psi + dt * k3.0, w + dt * k3.1, which));
-        psi += dt / 6.0 * (k1.0 + 2.0 * k2.0 + 2.0 * k3.0 + k4.0);
-        w += dt / 6.0 * (k1.1 + 2.0 * k2.1 + 2.0 * k3.1 + k4.1);
-    }
-    let events = (0..segments)
-        .map(|k| Event::new(k as f64 * seg, if k % 2 == 0 { "A" } else { "B" }))
-        .collect();
-    (samples, events)
-}
-
 #[test]
 fn g_from_a_heavy_rod_run_integrated_from_newtons_law() {
     // Five segments of four periods at a 500 s period, no noise: what is left is the method's error.
-    let (samples, events) = integrated_run(5, 2000.0, 500.0);
+    let (samples, events) = integrated_run(5, 2000.0, 500.0, 10);
     let a = analyze(
         &samples,
         &setup(0.0),

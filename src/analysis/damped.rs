@@ -7,10 +7,12 @@
 //! The nonlinear fit is Levenberg–Marquardt (levenberg-marquardt crate, MINPACK's algorithm) started
 //! from the best point of a small grid in `(omega_d, gamma)` around the spectrum's frequency, where the
 //! remaining parameters are linear and solved exactly. The parameter covariance is
-//! `(J^T J)^-1 s^2` with `s^2 = RSS / (n - p)` (the usual estimate for unknown white noise).
+//! `(J^T J)^-1 s^2` with `s^2 = RSS / (n - p)` (the usual estimate for unknown white noise) when the
+//! residuals look white, else the sandwich estimate for correlated residuals of [`super::ar1`].
 //! Internally time is scaled by the segment's length and the angle by its spread, so the solver sees
 //! numbers of order one.
 
+use super::ar1::{self, NoiseCorrelation};
 use levenberg_marquardt::{LeastSquaresProblem, LevenbergMarquardt};
 use nalgebra::{storage::Owned, DMatrix, DVector, Dyn};
 
@@ -41,6 +43,8 @@ pub struct DampedFit {
     pub rms: f64,
     /// Whether `gamma` and `omega_d` were held fixed (linear fit only).
     pub frequency_fixed: bool,
+    /// How correlated the residuals were, and so how far the covariance was widened.
+    pub noise: NoiseCorrelation,
 }
 
 impl DampedFit {
@@ -232,17 +236,44 @@ fn linear(sc: &Scaled, g: f64, w: f64, drift: bool) -> Option<(Vec<f64>, f64, DM
     Some((coef.iter().copied().collect(), r.norm_squared(), inv))
 }
 
+/// The Jacobian's columns for the `free` parameters and the residuals, in scaled units, at `q`.
+fn design(sc: &Scaled, q: &[f64; 6], free: &[usize]) -> (DMatrix<f64>, DVector<f64>) {
+    let n = sc.u.len();
+    let mut j = DMatrix::zeros(n, free.len());
+    let mut r = DVector::zeros(n);
+    for (i, &u) in sc.u.iter().enumerate() {
+        let e = (-q[3] * u).exp();
+        let (sn, cs) = (q[4] * u).sin_cos();
+        let cols = [
+            1.0,
+            e * cs,
+            e * sn,
+            -u * e * (q[1] * cs + q[2] * sn),
+            u * e * (-q[1] * sn + q[2] * cs),
+            u - sc.um,
+        ];
+        for (c, &k) in free.iter().enumerate() {
+            j[(i, c)] = cols[k];
+        }
+        r[i] = model(q, 0.0, sc.um, u) - sc.z[i];
+    }
+    (j, r)
+}
+
+/// The fit in SI units from the scaled solution `q`, with the covariance of the `free` parameters
+/// from `inv = (J^T J)^-1` widened for correlated residuals ([`super::ar1`]).
 fn finish(
     sc: &Scaled,
     q: [f64; 6],
-    cov_scaled: &DMatrix<f64>,
+    inv: &DMatrix<f64>,
     free: &[usize],
-    rss: f64,
     frequency_fixed: bool,
 ) -> Result<DampedFit, FitError> {
     let n = sc.u.len();
     let p = free.len();
-    let s2 = rss / (n - p) as f64;
+    let (j, r) = design(sc, &q, free);
+    let rss = r.norm_squared();
+    let (cov_scaled, noise) = ar1::covariance(&j, &r, inv);
     let k = scales(sc.span, sc.ys);
     let mut params = [0.0; 6];
     for i in 0..6 {
@@ -252,7 +283,7 @@ fn finish(
     let mut cov = [[0.0; 6]; 6];
     for (a, &i) in free.iter().enumerate() {
         for (b, &j) in free.iter().enumerate() {
-            cov[i][j] = cov_scaled[(a, b)] * s2 * k[i] * k[j];
+            cov[i][j] = cov_scaled[(a, b)] * k[i] * k[j];
         }
     }
     if params.iter().any(|v| !v.is_finite()) || cov.iter().flatten().any(|v| !v.is_finite()) {
@@ -267,6 +298,7 @@ fn finish(
         n_free: p,
         rms: (rss / n as f64).sqrt() * sc.ys,
         frequency_fixed,
+        noise,
     })
 }
 
@@ -287,7 +319,7 @@ pub fn fit_fixed_frequency(
     }
     let sc = scale_data(t, y, t0, t_mid);
     let (g, w) = (gamma * sc.span, omega_d * sc.span);
-    let (coef, rss, inv) = linear(&sc, g, w, drift).ok_or(FitError::Singular)?;
+    let (coef, _, inv) = linear(&sc, g, w, drift).ok_or(FitError::Singular)?;
     let mut q = [0.0, coef[0], coef[1], g, w, 0.0];
     q[0] = coef[0];
     q[1] = coef[1];
@@ -300,7 +332,7 @@ pub fn fit_fixed_frequency(
     } else {
         vec![0, 1, 2]
     };
-    finish(&sc, q, &inv, &free, rss, true)
+    finish(&sc, q, &inv, &free, true)
 }
 
 /// Full nonlinear fit of one segment, started near angular frequency `omega_guess` (rad/s).
@@ -354,16 +386,12 @@ pub fn fit_damped(
     let inv = (j.transpose() * &j)
         .try_inverse()
         .ok_or(FitError::Singular)?;
-    let rss = problem
-        .residuals()
-        .map(|r| r.norm_squared())
-        .ok_or(FitError::Singular)?;
     let free: Vec<usize> = if drift {
         vec![0, 1, 2, 3, 4, 5]
     } else {
         vec![0, 1, 2, 3, 4]
     };
-    finish(&sc, q, &inv, &free, rss, false)
+    finish(&sc, q, &inv, &free, false)
 }
 
 #[cfg(test)]

@@ -105,6 +105,13 @@ pub fn combine_equilibria(
             "only two segments: a drift of the zero is not cancelled (three or more segments let A-B-A triples cancel it)".into(),
         );
     }
+    // Above 2 chance is an unlikely cause (two degrees of freedom, five segments: P = exp(-4) = 2 %);
+    // between 1 and 2 the uncertainty is scaled without a remark.
+    if let Some(b) = deflection.birge.filter(|b| *b > 2.0) {
+        warnings.push(format!(
+            "the equilibria wander between segments more than their fits allow (Birge ratio {b:.2} of the triples): the deflection's uncertainty is scaled up by that factor"
+        ));
+    }
     if !deflection.alternating {
         warnings.push("the equilibria do not alternate as expected for masses moved back and forth: check the events".into());
     }

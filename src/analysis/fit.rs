@@ -464,6 +464,7 @@ mod tests {
             n_free: 6,
             rms: 1e-6,
             frequency_fixed: false,
+            noise: crate::analysis::ar1::NoiseCorrelation::WHITE,
         };
         let seg = |period: f64| Seg {
             idx: (0, 500),

@@ -23,6 +23,7 @@ use crate::physics;
 use crate::physics::pull::BeamPull;
 use crate::setup::Setup;
 use crate::units::{Measured, Radians};
+use nalgebra::{DMatrix, DVector};
 
 /// The deflection from the segments' equilibria.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -33,6 +34,11 @@ pub struct Deflection {
     pub estimates: Vec<f64>,
     /// Sample standard deviation of `estimates` (`None` with fewer than two).
     pub scatter: Option<f64>,
+    /// Birge ratio of the triples' estimates, `sqrt(chi^2 / (k - 1))` against their covariance from
+    /// the equilibria's uncertainties (`None` with fewer than two triples). Above 1, the equilibria
+    /// wander between segments more than within them (a creeping fibre, a drifting screen) and
+    /// `theta_g`'s uncertainty is scaled up by it.
+    pub birge: Option<f64>,
     /// Whether the drift-cancelling triples were used (false: a single pair).
     pub triples: bool,
     /// Whether every triple's deflection had the sign expected from alternating mass positions.
@@ -55,6 +61,7 @@ pub fn deflection(eqs: &[(f64, Measured)]) -> Option<Deflection> {
             theta_g: Measured::new(d.abs(), u),
             estimates: vec![d.abs()],
             scatter: None,
+            birge: None,
             triples: false,
             alternating: true,
             theta_mid,
@@ -62,6 +69,7 @@ pub fn deflection(eqs: &[(f64, Measured)]) -> Option<Deflection> {
     }
     let k = n - 2;
     let mut w = vec![0.0; n];
+    let mut rows = DMatrix::zeros(k, n);
     let mut estimates = Vec::with_capacity(k);
     let mut raw = Vec::with_capacity(k);
     for j in 0..k {
@@ -78,6 +86,9 @@ pub fn deflection(eqs: &[(f64, Measured)]) -> Option<Deflection> {
             alternating = false;
         }
         estimates.push(s * d / 2.0);
+        rows[(j, j + 1)] = s / 2.0;
+        rows[(j, j)] = -s * lam / 2.0;
+        rows[(j, j + 2)] = -s * (1.0 - lam) / 2.0;
         let c = s / (2.0 * k as f64);
         w[j + 1] += c;
         w[j] -= c * lam;
@@ -93,14 +104,42 @@ pub fn deflection(eqs: &[(f64, Measured)]) -> Option<Deflection> {
     let scatter = (k >= 2).then(|| {
         (estimates.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (k as f64 - 1.0)).sqrt()
     });
+    let birge = birge_ratio(&rows, eqs, &estimates);
     Some(Deflection {
-        theta_g: Measured::new(mean.abs(), u),
+        theta_g: Measured::new(mean.abs(), u * birge.unwrap_or(1.0).max(1.0)),
         estimates,
         scatter,
+        birge,
         triples: true,
         alternating,
         theta_mid,
     })
+}
+
+/// `sqrt(chi^2 / (k - 1))` of the `k` triple estimates `e = W x` of the equilibria `x`, with
+/// covariance `C = W diag(u^2) W^T` and `chi^2` about their generalised least-squares mean,
+/// `e^T C^-1 e - (1^T C^-1 e)^2 / 1^T C^-1 1` (Birge, Phys. Rev. 40 (1932) 207, cited from memory);
+/// its expectation is 1 when the equilibria scatter only as their uncertainties say.
+fn birge_ratio(rows: &DMatrix<f64>, eqs: &[(f64, Measured)], estimates: &[f64]) -> Option<f64> {
+    let k = estimates.len();
+    if k < 2 {
+        return None;
+    }
+    let var = DMatrix::from_diagonal(&DVector::from_iterator(
+        eqs.len(),
+        eqs.iter().map(|e| e.1.u * e.1.u),
+    ));
+    let c = rows * var * rows.transpose();
+    let ci = c.try_inverse()?;
+    let e = DVector::from_column_slice(estimates);
+    let one = DVector::from_element(k, 1.0);
+    let (ee, oe, oo) = (
+        (e.transpose() * &ci * &e)[0],
+        (one.transpose() * &ci * &e)[0],
+        (one.transpose() * &ci * &one)[0],
+    );
+    let chi2 = ee - oe * oe / oo;
+    (chi2.is_finite() && oo > 0.0).then(|| (chi2.max(0.0) / (k - 1) as f64).sqrt())
 }
 
 /// The acceleration jump at one move.

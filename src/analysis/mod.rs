@@ -16,6 +16,7 @@
 //!
 //! [`summary`] formats the result for the terminal.
 
+pub mod ar1;
 pub mod budget;
 pub mod clean;
 pub mod damped;

@@ -55,6 +55,8 @@ fn segments_value(a: &Analysis) -> Vec<Value> {
                 "period_s": s.period.map(|p| vu(p.value, p.u)),
                 "damping_time_s": finite(s.damping_time),
                 "residual_rms_rad": finite(s.residual_rms),
+                "residual_lag1_correlation": finite(s.fit.noise.lag1),
+                "residual_correlation_samples": finite(s.fit.noise.tau_samples),
                 "turning_rest_rad": s.turning_rest.map(|m| vu(m.value, m.u)),
                 "period_used": s.used_for_period,
                 "note": s.note,
@@ -105,6 +107,7 @@ pub fn result_value(a: &Analysis) -> Value {
         "theta_rad": vu(a.deflection.theta_g.value, a.deflection.theta_g.u),
         "theta_estimates_rad": a.deflection.estimates,
         "theta_scatter_rad": a.deflection.scatter.map(finite),
+        "theta_birge_ratio": a.deflection.birge.map(finite),
         "drift_cancelled_by_triples": a.deflection.triples,
         "beta": finite(a.beta),
         "pull_corrections": json!({
