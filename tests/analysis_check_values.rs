@@ -46,7 +46,9 @@ fn damped_fit_matches_scipy_curve_fit() {
     let f = fit_damped(&t, &y, t0, tm, p[4] * 1.01, true).unwrap();
     for k in 0..6 {
         // Both find the same least-squares minimum: parameters agree to a thousandth of their
-        // uncertainty, and the uncertainties (same formula) to 0.1 %.
+        // uncertainty, and the white-noise uncertainties (same formula) to 0.1 %. The trace's noise
+        // is white, so any widening for correlated residuals stays within chance (a few percent).
+        let white = f.white_cov[k][k].sqrt();
         assert!(
             (f.params[k] - p[k]).abs() <= 1e-3 * u[k],
             "param {k}: {} vs scipy {}",
@@ -54,8 +56,13 @@ fn damped_fit_matches_scipy_curve_fit() {
             p[k]
         );
         assert!(
-            (f.u(k) / u[k] - 1.0).abs() <= 1e-3,
-            "u {k}: {} vs scipy {}",
+            (white / u[k] - 1.0).abs() <= 1e-3,
+            "u {k}: {white} vs scipy {}",
+            u[k]
+        );
+        assert!(
+            (f.u(k) / u[k] - 1.0).abs() <= 0.1,
+            "u {k} allowing for correlation: {} vs white {}",
             f.u(k),
             u[k]
         );

@@ -45,6 +45,9 @@ pub struct DampedFit {
     pub frequency_fixed: bool,
     /// How correlated the residuals were, and so how far the covariance was widened.
     pub noise: NoiseCorrelation,
+    /// The textbook white-noise covariance `(J^T J)^-1 RSS / (n - p)`, the one general least-squares
+    /// programs report; equal to `cov` when the residuals look white.
+    pub white_cov: [[f64; 6]; 6],
 }
 
 impl DampedFit {
@@ -280,10 +283,13 @@ fn finish(
         params[i] = q[i] * k[i];
     }
     params[X_EQ] += sc.ym;
+    let s2 = rss / (n - p) as f64;
     let mut cov = [[0.0; 6]; 6];
+    let mut white_cov = [[0.0; 6]; 6];
     for (a, &i) in free.iter().enumerate() {
         for (b, &j) in free.iter().enumerate() {
             cov[i][j] = cov_scaled[(a, b)] * k[i] * k[j];
+            white_cov[i][j] = inv[(a, b)] * s2 * k[i] * k[j];
         }
     }
     if params.iter().any(|v| !v.is_finite()) || cov.iter().flatten().any(|v| !v.is_finite()) {
@@ -299,6 +305,7 @@ fn finish(
         rms: (rss / n as f64).sqrt() * sc.ys,
         frequency_fixed,
         noise,
+        white_cov,
     })
 }
 

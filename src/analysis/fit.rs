@@ -465,6 +465,7 @@ mod tests {
             rms: 1e-6,
             frequency_fixed: false,
             noise: crate::analysis::ar1::NoiseCorrelation::WHITE,
+            white_cov: [[1e-12; 6]; 6],
         };
         let seg = |period: f64| Seg {
             idx: (0, 500),
