@@ -76,18 +76,55 @@ def call_probe(probe, request, work, name):
         return json.load(f), "ok"
 
 
-def g_model(q, theta, period):
-    """G from the deflection, the period and the apparatus (same physics as the torsion-balance
-    measurement of G in any textbook; written here independently of spotlever): inertia of rod and two
-    spheres, kappa = I (2 pi / T)^2, far-sphere correction beta = d^3 / (d^2 + 4 R^2)^(3/2),
-    G = kappa theta d^2 / (2 R m M (1 - beta))."""
-    inertia = q["rod_mass"] * q["rod_length"] ** 2 / 12 + 2 * q["small_mass"] * (
+def pull_per_g(q, psi=0.0, n_rod=400):
+    """Torque about the fibre per unit G, N m / (m^3 kg^-1 s^-2), of both large spheres on the whole
+    beam turned by psi from its rest position: Newton's law summed over point masses (written here
+    independently of spotlever). The small spheres are points at +-R on the beam; the rod, of the
+    given mass and length at the spheres' height, is cut into n_rod equal pieces at their midpoints;
+    the large spheres sit d from the small ones, square to the arm, on opposite sides (each also pulls
+    the far small sphere and the whole rod). Works elementwise on numpy arrays of draws."""
+    r, d, big_m = q["arm"], q["separation"], q["large_mass"]
+    c, s = np.cos(psi), np.sin(psi)
+    sources = [(r, d), (-r, -d)]
+    points = [(r, q["small_mass"]), (-r, q["small_mass"])]
+    points += [(q["rod_length"] * (-0.5 + (i + 0.5) / n_rod), q["rod_mass"] / n_rod) for i in range(n_rod)]
+    tau = 0.0
+    for x, mass in points:
+        px, py = x * c, x * s
+        for qx, qy in sources:
+            dx, dy = qx - px, qy - py
+            f = big_m * mass / (dx * dx + dy * dy) ** 1.5
+            tau = tau + (px * dy - py * dx) * f
+    return tau
+
+
+def inertia_of(q):
+    """Moment of inertia of the rod and the two small spheres about the fibre, kg m^2."""
+    return q["rod_mass"] * q["rod_length"] ** 2 / 12 + 2 * q["small_mass"] * (
         q["arm"] ** 2 + 0.4 * q["small_radius"] ** 2
     )
-    kappa = inertia * (2 * np.pi / period) ** 2
-    d, r = q["separation"], q["arm"]
-    beta = d**3 / (d**2 + 4 * r**2) ** 1.5
-    return kappa * theta * d**2 / (2 * r * q["small_mass"] * q["large_mass"] * (1 - beta))
+
+
+def pull_and_stiffness(q, step=1e-4):
+    """The pull at rest tau_0 and its change as the beam turns, tau' = d tau / d psi (central
+    difference), both per unit G."""
+    return pull_per_g(q), (pull_per_g(q, step) - pull_per_g(q, -step)) / (2 * step)
+
+
+def g_model(q, theta, period):
+    """G from the deflection theta, the measured period and the apparatus. At each position's
+    equilibrium the fibre holds the pull, kappa theta = G tau_0 (the separation d is the one at rest
+    there); the period is set by the fibre together with the pull's change as the beam turns,
+    I (2 pi / T)^2 = kappa - G tau'. So G = I (2 pi / T)^2 theta / (tau_0 - theta tau')."""
+    tau0, stiff = pull_and_stiffness(q)
+    return inertia_of(q) * (2 * np.pi / period) ** 2 * theta / (tau0 - theta * stiff)
+
+
+def theta_for(q, g, period):
+    """The deflection that G = g gives with the measured period (g_model solved for theta)."""
+    tau0, stiff = pull_and_stiffness(q)
+    k = inertia_of(q) * (2 * np.pi / period) ** 2
+    return g * tau0 / (k + g * stiff)
 
 
 APPARATUS = {  # value, standard uncertainty (SI): the invented apparatus of clip.SETUP

@@ -46,7 +46,7 @@ def central():
 def simulate(seed=3):
     """Angle series (rad) of four segments A, B, A, B; returns t, theta, true deflection theta_G."""
     q = central()
-    theta_g = float(ar.g_model(q, 1.0, T0) ** -1 * G_CODATA_2018)  # G is linear in theta
+    theta_g = float(ar.theta_for(q, G_CODATA_2018, T0))
     g = 1.0 / TAU
     w0 = 2 * math.pi / T0
     wd = math.sqrt(w0 * w0 - g * g)
