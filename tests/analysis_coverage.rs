@@ -11,6 +11,7 @@
 //! A one-standard-deviation interval of a Gaussian estimate covers the truth 68.3 % of the time; over
 //! 200 runs the binomial standard error is 3.3 %, so 60-76 % is about +-2.4 of them.
 
+mod analysis_common;
 mod newton_beam;
 
 use newton_beam::integrated_run;
@@ -19,25 +20,7 @@ use rand::SeedableRng;
 use rand_distr::{Distribution, StandardNormal};
 use spotlever::analysis::{analyze, AnalysisOptions, Event, Sample};
 use spotlever::physics::G_CODATA_2018;
-use spotlever::setup::Setup;
-use std::path::Path;
 use std::sync::OnceLock;
-
-const SETUP: &str = r#"
-[beam]
-small_mass = "15 ± 0 g"
-small_radius = "7.5 ± 0 mm"
-arm = "50 ± 0 mm"
-rod_mass = "10 ± 0 g"
-rod_length = "100 ± 0 mm"
-[sources]
-large_mass = "1.5 ± 0 kg"
-separation = "46.5 ± 0 mm"
-[lever]
-screen_distance = "2.5 ± 0 m"
-zero = "0 ± 0 mm"
-scale = "flat"
-"#;
 
 const PERIOD_S: f64 = 500.0;
 const SAMPLE_S: usize = 5;
@@ -104,7 +87,8 @@ struct Coverage {
 }
 
 fn coverage(noise: Noise, seed0: u64) -> Coverage {
-    let setup = Setup::parse(SETUP, Path::new("coverage.toml")).unwrap();
+    // The Newton beam's apparatus, every value exact.
+    let setup = analysis_common::exact_setup();
     let opts = AnalysisOptions {
         mc_draws: 2_000,
         ..Default::default()

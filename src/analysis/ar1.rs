@@ -59,47 +59,47 @@ pub fn lag_one(r: &[f64]) -> f64 {
     r.windows(2).map(|w| w[0] * w[1]).sum::<f64>() / c0
 }
 
-/// `J`'s columns each multiplied by `R` (`phi`), or shifted by `D` (`phi = None`).
-fn columns(j: &DMatrix<f64>, phi: Option<f64>) -> DMatrix<f64> {
-    let (n, p) = j.shape();
-    let mut out = DMatrix::zeros(n, p);
-    for c in 0..p {
-        let col: Vec<f64> = j.column(c).iter().copied().collect();
-        let v = match phi {
-            Some(phi) => correlate(&col, phi),
-            None => (0..n)
-                .map(|i| {
-                    let before = if i > 0 { col[i - 1] } else { 0.0 };
-                    let after = if i + 1 < n { col[i + 1] } else { 0.0 };
-                    0.5 * (before + after)
-                })
-                .collect(),
-        };
-        out.set_column(c, &DVector::from_vec(v));
+/// `J`'s columns each multiplied by `R` for `phi`.
+fn correlated(j: &DMatrix<f64>, phi: f64) -> DMatrix<f64> {
+    let mut out = j.clone();
+    for mut col in out.column_iter_mut() {
+        let v = correlate(col.as_slice(), phi);
+        col.copy_from_slice(&v);
     }
     out
 }
 
-/// `tr(M R)` and the lag-one autocorrelation the residuals of a fit with Jacobian `j` would show on
-/// average under AR(1) noise of `phi`: `tr(D M R M) / tr(M R)`, expanded so that only p x p
-/// matrices are formed.
-fn expected(j: &DMatrix<f64>, inv: &DMatrix<f64>, dj: &DMatrix<f64>, phi: f64) -> (f64, f64) {
+/// `D J`: each column replaced by the mean of its neighbours (`D` half the sum of the one-step
+/// shifts, zero beyond the ends).
+fn shifted(j: &DMatrix<f64>) -> DMatrix<f64> {
+    let n = j.nrows();
+    DMatrix::from_fn(n, j.ncols(), |i, c| {
+        let before = if i > 0 { j[(i - 1, c)] } else { 0.0 };
+        let after = if i + 1 < n { j[(i + 1, c)] } else { 0.0 };
+        0.5 * (before + after)
+    })
+}
+
+/// The lag-one autocorrelation the residuals of a fit with Jacobian `j` would show on average under
+/// AR(1) noise of `phi`: `tr(D M R M) / tr(M R)`, expanded so that only p x p matrices are formed
+/// (`dj = D J`).
+fn expected_lag_one(j: &DMatrix<f64>, inv: &DMatrix<f64>, dj: &DMatrix<f64>, phi: f64) -> f64 {
     let n = j.nrows() as f64;
-    let rj = columns(j, Some(phi));
+    let rj = correlated(j, phi);
     let jrj = j.transpose() * &rj;
     let jdj = j.transpose() * dj;
     let jrdj = rj.transpose() * dj;
     let m_r = n - (inv * &jrj).trace();
     let d_r = (n - 1.0) * phi;
     let dmrm = d_r - 2.0 * (inv * &jrdj).trace() + (inv * &jrj * inv * &jdj).trace();
-    (m_r, dmrm / m_r)
+    dmrm / m_r
 }
 
 /// The AR(1) `phi` whose fit residuals would show the lag-one autocorrelation `r1` on average, in
 /// `[0, PHI_MAX]` (0 when even white noise would show more).
 fn solve_phi(j: &DMatrix<f64>, inv: &DMatrix<f64>, r1: f64) -> f64 {
-    let dj = columns(j, None);
-    let at = |phi: f64| expected(j, inv, &dj, phi).1;
+    let dj = shifted(j);
+    let at = |phi: f64| expected_lag_one(j, inv, &dj, phi);
     if r1.is_nan() || r1 <= at(0.0) {
         return 0.0;
     }
@@ -152,8 +152,7 @@ pub fn covariance(
     if phi <= 0.0 {
         return white();
     }
-    let rj = columns(j, Some(phi));
-    let spread = inv * (j.transpose() * rj);
+    let spread = inv * (j.transpose() * correlated(j, phi));
     // tr((I - H) R) = tr(R) - tr((J^T J)^-1 J^T R J), and tr(R) = n.
     let dof = n as f64 - spread.trace();
     if dof.is_nan() || dof <= 0.0 {

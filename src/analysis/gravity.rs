@@ -68,7 +68,7 @@ pub fn deflection(eqs: &[(f64, Measured)]) -> Option<Deflection> {
         });
     }
     let k = n - 2;
-    let mut w = vec![0.0; n];
+    // Row j: each equilibrium's weight in triple j's estimate.
     let mut rows = DMatrix::zeros(k, n);
     let mut estimates = Vec::with_capacity(k);
     let mut raw = Vec::with_capacity(k);
@@ -89,11 +89,9 @@ pub fn deflection(eqs: &[(f64, Measured)]) -> Option<Deflection> {
         rows[(j, j + 1)] = s / 2.0;
         rows[(j, j)] = -s * lam / 2.0;
         rows[(j, j + 2)] = -s * (1.0 - lam) / 2.0;
-        let c = s / (2.0 * k as f64);
-        w[j + 1] += c;
-        w[j] -= c * lam;
-        w[j + 2] -= c * (1.0 - lam);
     }
+    // The mean of the estimates weighs each equilibrium by its column's mean.
+    let w: Vec<f64> = rows.column_iter().map(|c| c.sum() / k as f64).collect();
     let mean = estimates.iter().sum::<f64>() / k as f64;
     let u = w
         .iter()
